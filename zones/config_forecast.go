@@ -18,8 +18,10 @@ type ForecastConfig struct {
 	// MeasurementNoise is the position noise standard deviation for the
 	// Kalman filters.
 	MeasurementNoise Length `yaml:"measurement_noise"`
-	// ProcessNoise is the spectral density of the white-noise process
-	// (acceleration for CV, jerk for CA), in the file's units per s^n.
+	// ProcessNoise is σ_w of the Kalman filters' discrete white-noise
+	// process: the standard deviation of the acceleration (kalman-cv, m/s²)
+	// or jerk (kalman-ca, m/s³) held constant over each sample interval.
+	// Always in metres per s² or s³, whatever the file's length unit.
 	ProcessNoise float64 `yaml:"process_noise"`
 	// Latency: input latency to compensate. "auto" is not a duration: use
 	// LatencyAuto to take the live service's measured latency.

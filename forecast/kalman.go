@@ -1,0 +1,171 @@
+package forecast
+
+import (
+	"math"
+
+	"gonum.org/v1/gonum/spatial/r3"
+	"gonum.org/v1/gonum/stat/distuv"
+)
+
+// Initial state uncertainty of a new Kalman track beyond its first position:
+// hand speeds rarely exceed a few m/s and accelerations a few tens of m/s²
+// (common practice, no source; the values only shape the first few updates).
+const (
+	kalmanInitSpeedSD = 2.0  // m/s
+	kalmanInitAccelSD = 20.0 // m/s²
+)
+
+// kalmanModel is a Kalman filter with a constant-velocity (n=2) or
+// constant-acceleration (n=3) process model driven by a discrete white-noise
+// process: the highest derivative changes by a random amount, standard
+// deviation σ_w, held over each sample interval T, so Q = σ_w²·Γ·Γᵀ with
+// Γ = [T²/2, T] (CV) or [T³/6, T²/2, T] (CA). The measurement is the position
+// with independent noise σ_n per axis. The three axes share one covariance
+// (their noises are equal and independent), so the filter keeps one n×n
+// covariance and three state vectors. The uncertainty radius at lead τ is
+// sqrt(χ²₃(c))·σ_pos(τ), with σ_pos(τ)² the position variance of the
+// predicted covariance F(τ)·P·F(τ)ᵀ + Q(τ): the radius of the ball holding
+// the true position with probability c under the filter's Gaussian model.
+type kalmanModel struct {
+	name   string
+	n      int
+	sw, sn float64
+	chi    float64 // sqrt of the chi-squared(3) quantile at the coverage
+}
+
+func newKalmanModel(name string, n int, s Settings) (*kalmanModel, error) {
+	q := distuv.ChiSquared{K: 3}.Quantile(s.Coverage)
+	return &kalmanModel{name: name, n: n, sw: s.ProcessNoise, sn: s.MeasurementNoise, chi: math.Sqrt(q)}, nil
+}
+
+func (m *kalmanModel) Name() string    { return m.name }
+func (m *kalmanModel) New() Forecaster { return &kalmanForecaster{m: *m} }
+
+type mat3 = [3][3]float64
+
+type kalmanForecaster struct {
+	m  kalmanModel
+	t  float64
+	x  [3]r3.Vec // position, velocity, acceleration estimates
+	P  mat3      // shared per-axis covariance (only n×n used)
+	K  [3]float64
+	ok bool
+}
+
+func (f *kalmanForecaster) Reset() { f.ok = false }
+
+// transition returns F(T) and the process-noise covariance Q(T).
+func (m *kalmanModel) transition(dt float64) (F, Q mat3) {
+	var g [3]float64
+	if m.n == 2 {
+		F = mat3{{1, dt, 0}, {0, 1, 0}, {0, 0, 0}}
+		g = [3]float64{dt * dt / 2, dt, 0}
+	} else {
+		F = mat3{{1, dt, dt * dt / 2}, {0, 1, dt}, {0, 0, 1}}
+		g = [3]float64{dt * dt * dt / 6, dt * dt / 2, dt}
+	}
+	v := m.sw * m.sw
+	for i := 0; i < m.n; i++ {
+		for j := 0; j < m.n; j++ {
+			Q[i][j] = v * g[i] * g[j]
+		}
+	}
+	return F, Q
+}
+
+// propagate returns F·P·Fᵀ + Q over n×n.
+func propagate(n int, F, P, Q mat3) mat3 {
+	var FP, R mat3
+	for i := 0; i < n; i++ {
+		for j := 0; j < n; j++ {
+			s := 0.0
+			for k := 0; k < n; k++ {
+				s += F[i][k] * P[k][j]
+			}
+			FP[i][j] = s
+		}
+	}
+	for i := 0; i < n; i++ {
+		for j := 0; j <= i; j++ {
+			s := Q[i][j]
+			for k := 0; k < n; k++ {
+				s += FP[i][k] * F[j][k]
+			}
+			R[i][j], R[j][i] = s, s
+		}
+	}
+	return R
+}
+
+// initState starts the filter at time t with state x and covariance P.
+func (f *kalmanForecaster) initState(t float64, x [3]r3.Vec, P mat3) {
+	f.t, f.x, f.P, f.ok = t, x, P, true
+}
+
+func (f *kalmanForecaster) Update(t float64, p r3.Vec) {
+	n := f.m.n
+	if !f.ok {
+		var P mat3
+		P[0][0] = f.m.sn * f.m.sn
+		P[1][1] = kalmanInitSpeedSD * kalmanInitSpeedSD
+		if n == 3 {
+			P[2][2] = kalmanInitAccelSD * kalmanInitAccelSD
+		}
+		f.initState(t, [3]r3.Vec{p}, P)
+		return
+	}
+	dt := t - f.t
+	F, Q := f.m.transition(dt)
+	// Predict.
+	var x [3]r3.Vec
+	for i := 0; i < n; i++ {
+		for k := 0; k < n; k++ {
+			x[i] = r3.Add(x[i], r3.Scale(F[i][k], f.x[k]))
+		}
+	}
+	P := propagate(n, F, f.P, Q)
+	// Measurement update, H = [1 0 0].
+	S := P[0][0] + f.m.sn*f.m.sn
+	var K [3]float64
+	for i := 0; i < n; i++ {
+		K[i] = P[i][0] / S
+	}
+	innov := r3.Sub(p, x[0])
+	for i := 0; i < n; i++ {
+		x[i] = r3.Add(x[i], r3.Scale(K[i], innov))
+	}
+	var Pn mat3
+	for i := 0; i < n; i++ {
+		for j := 0; j <= i; j++ {
+			v := P[i][j] - K[i]*P[0][j]
+			Pn[i][j], Pn[j][i] = v, v
+		}
+	}
+	f.t, f.x, f.P, f.K = t, x, Pn, K
+}
+
+// predictAt returns the predicted position and its per-axis variance tau
+// seconds after the last update.
+func (f *kalmanForecaster) predictAt(tau float64) (r3.Vec, float64) {
+	n := f.m.n
+	F, Q := f.m.transition(tau)
+	var p r3.Vec
+	for k := 0; k < n; k++ {
+		p = r3.Add(p, r3.Scale(F[0][k], f.x[k]))
+	}
+	P := propagate(n, F, f.P, Q)
+	return p, P[0][0]
+}
+
+func (f *kalmanForecaster) Predict(dst *Path, h Horizon) bool {
+	if !f.ok {
+		dst.Resize(0)
+		return false
+	}
+	n := fillTimes(dst, f.t, h)
+	for k := 0; k < n; k++ {
+		p, v := f.predictAt(dst.T[k] - f.t)
+		dst.P[k], dst.R[k] = p, f.m.chi*math.Sqrt(math.Max(v, 0))
+	}
+	return true
+}
