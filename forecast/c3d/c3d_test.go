@@ -132,8 +132,8 @@ func TestDECFloat(t *testing.T) {
 		{[]byte{0xaa, 0x3e, 0xab, 0xaa}, float64(float32(1.0 / 12))},
 		{[]byte{0xaa, 0xbe, 0xab, 0xaa}, -float64(float32(1.0 / 12))},
 		{[]byte{0, 0, 0, 0}, 0},
-		{[]byte{0x12, 0x00, 0x34, 0x56}, 0},                          // exponent 0, sign clear: zero whatever the fraction
-		{[]byte{0xff, 0x7f, 0xff, 0xff}, math.Ldexp(2-1.0/(1<<23), 126)}, // exponent 255: finite (0.1f × 2^127)
+		{[]byte{0x12, 0x00, 0x34, 0x56}, 0},                               // exponent 0, sign clear: zero whatever the fraction
+		{[]byte{0xff, 0x7f, 0xff, 0xff}, math.Ldexp(2-1.0/(1<<23), 126)},  // exponent 255: finite (0.1f × 2^127)
 		{[]byte{0xff, 0x00, 0xff, 0xff}, math.Ldexp(2-1.0/(1<<23), -128)}, // exponent 1: exact, below float32's normal range
 	}
 	for _, c := range cases {
