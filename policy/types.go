@@ -289,7 +289,7 @@ type Stats struct {
 }
 
 // RejectedTotal is the sum of Rejected.
-func (s *Stats) RejectedTotal() uint64 {
+func (s Stats) RejectedTotal() uint64 {
 	var n uint64
 	for _, v := range s.Rejected {
 		n += v
