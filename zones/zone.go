@@ -1,0 +1,258 @@
+package zones
+
+import (
+	"math"
+	"sort"
+	"strconv"
+
+	"gonum.org/v1/gonum/spatial/r3"
+)
+
+// Zone is one hazard zone: a shape with an advisory margin around it, fixed
+// in the cell or attached to a robot frame.
+type Zone struct {
+	Name   string
+	Shape  Shape
+	Margin float64 // metres, >= 0: the zone counts as reached within Margin of Shape
+	// Frame names the robot frame the zone moves with; empty for a zone
+	// fixed in the cell. For an attached zone Shape is given in the frame's
+	// coordinates and Pose places the frame in the cell.
+	Frame string
+	Rules []string // advisory rules applying to this zone (empty: the defaults)
+	// Pose is the current pose of Frame: a point p of the cell is at
+	// Rot⁻¹·(p − Pos) in shape coordinates. Used only when Frame != "";
+	// the zero Pose is the identity. In a ZoneSet, change it with
+	// SetFramePose.
+	Pose Pose
+}
+
+// local maps a cell point into shape coordinates.
+func (z *Zone) local(p r3.Vec) r3.Vec {
+	if z.Frame == "" {
+		return p
+	}
+	m := rotMat(z.Pose.Rot)
+	return m.applyT(r3.Sub(p, z.Pose.Pos))
+}
+
+// SignedDistance returns the signed distance from the cell point p to the
+// zone's shape at its current pose (negative inside), without the margin.
+func (z *Zone) SignedDistance(p r3.Vec) float64 { return z.Shape.SignedDistance(z.local(p)) }
+
+// Contains reports whether p is within the margin of the shape
+// (SignedDistance(p) <= Margin).
+func (z *Zone) Contains(p r3.Vec) bool { return z.SignedDistance(p) <= z.Margin }
+
+// ToCell maps a point from shape coordinates into the cell at the zone's
+// current pose (the identity for a fixed zone), for drawing.
+func (z *Zone) ToCell(p r3.Vec) r3.Vec {
+	if z.Frame == "" {
+		return p
+	}
+	return z.Pose.Apply(p)
+}
+
+// Bounds returns the axis-aligned bounds in the cell of the shape at its
+// current pose, without the margin. For an attached zone it encloses the
+// rotated shape bounds (not tight in general).
+func (z *Zone) Bounds() AABB {
+	b := z.Shape.Bounds()
+	if z.Frame == "" {
+		return b
+	}
+	m := rotMat(z.Pose.Rot)
+	c := r3.Scale(0.5, r3.Add(b.Min, b.Max))
+	h := m.absApply(r3.Scale(0.5, r3.Sub(b.Max, b.Min)))
+	c = r3.Add(m.apply(c), z.Pose.Pos)
+	return AABB{Min: r3.Sub(c, h), Max: r3.Add(c, h)}
+}
+
+// sweepStack is the number of path points Zone.Sweep handles without
+// allocating.
+const sweepStack = 64
+
+// Sweep answers the path query for this zone: when the path's sphere of
+// radius R(t) first comes within Margin of the shape, and the minimum
+// separation SignedDistance(P(t)) − R(t) − Margin along the path. See
+// SweepTol for the guarantees.
+//
+// cutoff makes far zones cheap: when the distance between the path's
+// bounding box and the zone's, less the largest radius and the margin, is
+// at least cutoff, the result is Far with that distance as MinSep (a lower
+// bound), MinSepT zero, and no touch. Pass math.Inf(1) to always get the
+// exact answer.
+//
+// An empty path gives Far with MinSep +Inf. A path holding a NaN or
+// infinite time, coordinate or radius cannot be judged; it is reported as
+// touching at its first time with MinSep −Inf, so that it never reads as
+// clear. Slices of unequal length are used up to the shortest. Sweep
+// allocates nothing for paths of up to 64 points.
+func (z *Zone) Sweep(path PathView, cutoff float64) SweepResult {
+	pb := boxOfPath(path)
+	var arr [sweepStack]pointEval
+	buf := arr[:]
+	if pb.n > len(buf) {
+		buf = make([]pointEval, pb.n)
+	}
+	return z.sweep(path, pb, cutoff, buf)
+}
+
+func (z *Zone) sweep(path PathView, pb pathBox, cutoff float64, buf []pointEval) SweepResult {
+	if pb.n == 0 {
+		return SweepResult{MinSep: math.Inf(1), Far: true}
+	}
+	if !pb.ok {
+		return SweepResult{Touch: true, TouchT: path.T[0], MinSep: math.Inf(-1), MinSepT: path.T[0]}
+	}
+	if lb := pb.box.Distance(z.Bounds()) - pb.maxR - z.Margin; lb >= cutoff {
+		return SweepResult{MinSep: lb, Far: true}
+	}
+	ev := asEvaluator(z.Shape)
+	posed := z.Frame != ""
+	m := identityMat
+	if posed {
+		m = rotMat(z.Pose.Rot)
+	}
+	return sweepLocal(ev, ev.convex(), path, pb.n, posed, &m, z.Pose.Pos, z.Margin, buf)
+}
+
+// ZoneError reports what is wrong with one zone given to NewZoneSet. Index
+// is the zone's position in the slice, Field "name", "shape", "margin" or
+// "pose".
+type ZoneError struct {
+	Index int
+	Name  string
+	Field string
+	Msg   string
+}
+
+func (e *ZoneError) Error() string {
+	s := "zones[" + strconv.Itoa(e.Index) + "]"
+	if e.Name != "" {
+		s += " " + strconv.Quote(e.Name)
+	}
+	return s + ": " + e.Field + ": " + e.Msg
+}
+
+// ZoneSet is the set of zones of a cell, queried together for every
+// forecast. The zones are kept in the order given.
+//
+// Sweep reuses a scratch buffer, so a ZoneSet must not be swept from
+// several goroutines at once (the advisory engine of a cell is
+// single-threaded); the other methods only read, except SetFramePose.
+type ZoneSet struct {
+	zones   []Zone
+	index   map[string]int
+	frames  []string
+	scratch []pointEval
+}
+
+// NewZoneSet checks the zones and returns them as a set (the slice is
+// copied). Names must be non-empty and unique, shapes non-nil, margins
+// finite and >= 0, and poses of attached zones finite. The first problem
+// found is returned as a *ZoneError.
+func NewZoneSet(zs []Zone) (*ZoneSet, error) {
+	s := &ZoneSet{zones: append([]Zone(nil), zs...), index: make(map[string]int, len(zs))}
+	seen := map[string]bool{}
+	for i := range s.zones {
+		z := &s.zones[i]
+		switch {
+		case z.Name == "":
+			return nil, &ZoneError{Index: i, Field: "name", Msg: "empty"}
+		case z.Shape == nil:
+			return nil, &ZoneError{Index: i, Name: z.Name, Field: "shape", Msg: "missing"}
+		case math.IsNaN(z.Margin) || math.IsInf(z.Margin, 0):
+			return nil, &ZoneError{Index: i, Name: z.Name, Field: "margin", Msg: "NaN/Inf"}
+		case z.Margin < 0:
+			return nil, &ZoneError{Index: i, Name: z.Name, Field: "margin", Msg: "must be >= 0, got " + ftoa(z.Margin)}
+		}
+		if j, dup := s.index[z.Name]; dup {
+			return nil, &ZoneError{Index: i, Name: z.Name, Field: "name",
+				Msg: "duplicate name (also zones[" + strconv.Itoa(j) + "])"}
+		}
+		if z.Frame != "" {
+			if err := z.Pose.Validate(); err != nil {
+				return nil, &ZoneError{Index: i, Name: z.Name, Field: "pose", Msg: err.Error()}
+			}
+			if !seen[z.Frame] {
+				seen[z.Frame] = true
+				s.frames = append(s.frames, z.Frame)
+			}
+		}
+		s.index[z.Name] = i
+	}
+	sort.Strings(s.frames)
+	return s, nil
+}
+
+// Len returns the number of zones.
+func (s *ZoneSet) Len() int { return len(s.zones) }
+
+// Zone returns zone i (0 <= i < Len()). Treat it as read-only; move
+// attached zones with SetFramePose.
+func (s *ZoneSet) Zone(i int) *Zone { return &s.zones[i] }
+
+// Index returns the position of the zone with the given name, or -1.
+func (s *ZoneSet) Index(name string) int {
+	if i, ok := s.index[name]; ok {
+		return i
+	}
+	return -1
+}
+
+// Frames returns the sorted names of the frames zones are attached to.
+func (s *ZoneSet) Frames() []string { return append([]string(nil), s.frames...) }
+
+// SetFramePose sets the pose of every zone attached to frame and returns
+// how many there are (0 for a frame no zone uses). A pose with a NaN or
+// infinite component is refused: nothing moves and -1 is returned.
+func (s *ZoneSet) SetFramePose(frame string, pose Pose) int {
+	if frame == "" {
+		return 0
+	}
+	if pose.Validate() != nil {
+		return -1
+	}
+	n := 0
+	for i := range s.zones {
+		if s.zones[i].Frame == frame {
+			s.zones[i].Pose = pose
+			n++
+		}
+	}
+	return n
+}
+
+// Sweep answers the path query (see Zone.Sweep) for every zone and returns
+// the results in zone order in out, reused when its capacity suffices
+// (len(out) == Len()). It allocates nothing once out and the set's scratch
+// buffer have grown to size.
+func (s *ZoneSet) Sweep(path PathView, cutoff float64, out []SweepResult) []SweepResult {
+	if cap(out) < len(s.zones) {
+		out = make([]SweepResult, len(s.zones))
+	}
+	out = out[:len(s.zones)]
+	pb := boxOfPath(path)
+	if cap(s.scratch) < pb.n {
+		s.scratch = make([]pointEval, pb.n)
+	}
+	buf := s.scratch[:pb.n]
+	for i := range s.zones {
+		out[i] = s.zones[i].sweep(path, pb, cutoff, buf)
+	}
+	return out
+}
+
+// SignedDistances writes into out (reused when its capacity suffices) the
+// signed distance from p to each zone's shape at its current pose, without
+// margins, in zone order.
+func (s *ZoneSet) SignedDistances(p r3.Vec, out []float64) []float64 {
+	if cap(out) < len(s.zones) {
+		out = make([]float64, len(s.zones))
+	}
+	out = out[:len(s.zones)]
+	for i := range s.zones {
+		out[i] = s.zones[i].SignedDistance(p)
+	}
+	return out
+}
