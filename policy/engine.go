@@ -152,6 +152,8 @@ type Engine struct {
 	robotT     float64
 	hasRobotT  bool
 
+	frames map[string]bool // known robot frames
+
 	tracks []*track
 	byID   map[string]*track
 
@@ -195,6 +197,10 @@ func newEngine(cfg *zones.Config, zs zoneSource, model forecast.Model, opts Opti
 		gapReset:     orDefault(cfg.Forecast.GapReset.Seconds(), forecast.DefaultGapReset),
 		maxTracks:    opts.MaxTracks,
 		byID:         map[string]*track{},
+		frames:       map[string]bool{},
+	}
+	for _, f := range cfg.Robot.Frames {
+		e.frames[f.Name] = true
 	}
 	if e.maxTracks <= 0 {
 		e.maxTracks = DefaultMaxTracks
@@ -257,6 +263,9 @@ func newEngine(cfg *zones.Config, zs zoneSource, model forecast.Model, opts Opti
 	for i := 0; i < n; i++ {
 		name, frame, names := zs.info(i)
 		zm := zoneMeta{name: name, robot: frame != ""}
+		if frame != "" {
+			e.frames[frame] = true
+		}
 		if len(names) == 0 {
 			for j := range e.rules {
 				zm.rules = append(zm.rules, j)
@@ -562,8 +571,8 @@ func (e *Engine) checkRobot(st RobotState) error {
 		if !finite(p.X) || !finite(p.Y) || !finite(p.Z) || !finite(q.Real) || !finite(q.Imag) || !finite(q.Jmag) || !finite(q.Kmag) {
 			return fmt.Errorf("policy: robot state at %v s: frame %q: pose is not finite", st.T, f.Frame)
 		}
-		if !e.zs.hasFrame(f.Frame) {
-			return fmt.Errorf("policy: robot state at %v s: frame %q: no zone is attached to it", st.T, f.Frame)
+		if !e.frames[f.Frame] {
+			return fmt.Errorf("policy: robot state at %v s: frame %q: not a frame of robot.frames nor of a zone", st.T, f.Frame)
 		}
 	}
 	return nil

@@ -96,14 +96,6 @@ func (d *doubleSet) distances(p r3.Vec, out []float64) {
 		out[i] = z.sd(p)
 	}
 }
-func (d *doubleSet) hasFrame(f string) bool {
-	for _, z := range d.zs {
-		if z.frame == f {
-			return true
-		}
-	}
-	return false
-}
 func (d *doubleSet) setFrame(f string, pose zones.Pose) error {
 	for _, z := range d.zs {
 		if z.frame == f {

@@ -21,8 +21,6 @@ type zoneSource interface {
 	// distances writes the signed distance from p to every zone's shape
 	// (margin not subtracted, negative inside); out has count() elements.
 	distances(p r3.Vec, out []float64)
-	// hasFrame reports whether a zone is attached to the frame.
-	hasFrame(frame string) bool
-	// setFrame moves the zones attached to frame.
+	// setFrame moves the zones attached to frame (none: no error).
 	setFrame(frame string, pose zones.Pose) error
 }
