@@ -1,6 +1,10 @@
 package zones
 
-import "time"
+import (
+	"math"
+	"strconv"
+	"time"
+)
 
 // PolicyConfig holds the advisory rules, hysteresis and fail-safe settings
 // of the advisory engine (package policy). Owned by the advisory-engine work;
@@ -92,5 +96,72 @@ func (p *PolicyConfig) Defaults() {
 	}
 	if p.FalseAlarmWindow == 0 {
 		p.FalseAlarmWindow = Duration(time.Second)
+	}
+}
+
+// Check reports bad values and duplicate rule names.
+func (p *PolicyConfig) Check(c *Checker) {
+	if p.Release < 0 || time.Duration(p.Release) > time.Minute {
+		c.Errorf("release", "must be in (0, 1m], got %v", time.Duration(p.Release))
+	}
+	if p.StaleAfter < 0 || time.Duration(p.StaleAfter) > 10*time.Second {
+		c.Errorf("stale_after", "must be in (0, 10s], got %v", time.Duration(p.StaleAfter))
+	}
+	if !(p.NearTrack >= 0) || math.IsInf(float64(p.NearTrack), 0) {
+		c.Errorf("near_track", "must be >= 0 m, got %g m", float64(p.NearTrack))
+	}
+	if !(p.MaxSpeed > 0) || math.IsInf(float64(p.MaxSpeed), 0) {
+		c.Errorf("max_speed", "must be > 0 m/s, got %g m/s", float64(p.MaxSpeed))
+	}
+	if !(p.NearMiss >= 0) || math.IsInf(float64(p.NearMiss), 0) {
+		c.Errorf("near_miss", "must be >= 0 m, got %g m", float64(p.NearMiss))
+	}
+	if p.FalseAlarmWindow < 0 {
+		c.Errorf("false_alarm_window", "must be >= 0, got %v", time.Duration(p.FalseAlarmWindow))
+	}
+	first := map[string]int{}
+	for i, r := range p.Rules {
+		if r.Name == "" {
+			continue // reported by RuleConfig.Check
+		}
+		if j, dup := first[r.Name]; dup {
+			c.Errorf("rules["+strconv.Itoa(i)+"].name", "duplicate rule name (also rules[%d])", j)
+		} else {
+			first[r.Name] = i
+		}
+	}
+}
+
+// Check reports a rule that has no name, an unknown level, a scale out of
+// [0,1] or no condition.
+func (r *RuleConfig) Check(c *Checker) {
+	switch {
+	case r.Name == "":
+		c.Errorf("name", "missing: every rule needs a name (zones refer to it)")
+	case r.Name == builtinRuleTrackingLost || r.Name == builtinRuleSeparation:
+		c.Errorf("name", "%q is the name of a built-in rule; choose another", r.Name)
+	}
+	switch r.Level {
+	case "reduce":
+		if !(r.Scale >= 0 && r.Scale <= 1) {
+			c.Errorf("scale", "must be in [0, 1], got %g", r.Scale)
+		}
+	case "hold":
+		if r.Scale != 0 {
+			c.Errorf("scale", "a hold rule has no speed scale (hold is scale 0); remove it")
+		}
+	case "":
+		c.Errorf("level", "missing: reduce or hold")
+	default:
+		c.Errorf("level", "%q: want reduce or hold", r.Level)
+	}
+	if r.EntryWithin < 0 {
+		c.Errorf("entry_within", "must be >= 0, got %v", time.Duration(r.EntryWithin))
+	}
+	if r.SepBelow != nil && !(*r.SepBelow > 0) {
+		c.Errorf("sep_below", "must be > 0 m, got %g m", float64(*r.SepBelow))
+	}
+	if r.EntryWithin <= 0 && r.SepBelow == nil && !r.Inside {
+		c.Errorf("", "rule has no condition: set entry_within, sep_below or inside: true")
 	}
 }
