@@ -1,0 +1,174 @@
+package sim
+
+import (
+	"math"
+
+	"forereach/zones"
+)
+
+// Zone is a named volume for ground-truth queries (a fixed hazard zone of
+// the cell, without its margin).
+type Zone struct {
+	Name  string
+	Shape zones.Shape
+}
+
+// Entry is a hand inside a zone's shape from Enter to Exit, on the true
+// trajectory (tremor included, sensor effects not).
+type Entry struct {
+	Track, Zone string
+	Enter, Exit float64 // seconds; Exit is the run's duration when Open
+	Open        bool    // still inside at the end of the run
+	Depth       float64 // greatest depth inside the shape, metres (on the scan grid)
+}
+
+// NearPass is an approach of a hand to within the near distance of a zone
+// without entering it: the hand stayed closer than near from Start to End
+// and came closest, Dist metres from the shape's surface, at T.
+type NearPass struct {
+	Track, Zone string
+	Start, End  float64
+	T           float64
+	Dist        float64
+}
+
+// Truth is the ground truth of a run against a set of zones.
+type Truth struct {
+	Entries    []Entry
+	NearPasses []NearPass
+}
+
+// TruthStep is the scan step of Truth: 1 ms of simulated time. Excursions
+// into a zone, or near passes, shorter than this may be missed; crossing
+// and closest-approach times are then refined to within TruthTol.
+const (
+	TruthStep = 1e-3
+	TruthTol  = 1e-9
+)
+
+// Truth scans every track of the run against every zone over [0, Duration]
+// and lists the entries into the zones' shapes and the near passes (closer
+// than near metres without entering), ordered by track, then zone, then
+// time. It does not disturb the measurement stream.
+func (r *Run) Truth(zs []Zone, near float64) Truth {
+	var out Truth
+	n := int(math.Ceil(r.duration/TruthStep)) + 1
+	for _, tp := range r.plans {
+		for _, z := range zs {
+			dist := func(t float64) float64 { return z.Shape.SignedDistance(tp.position(t, nil)) }
+			var cursor int
+			at := func(k int) (float64, float64) {
+				t := math.Min(float64(k)*TruthStep, r.duration)
+				return t, z.Shape.SignedDistance(tp.position(t, &cursor))
+			}
+			var (
+				inside  bool
+				entry   Entry
+				nearOn  bool
+				np      NearPass
+				entered bool // the hand entered during the current near interval
+				bestK   int
+			)
+			t0, d0 := at(0)
+			prevT := t0
+			if d0 <= 0 {
+				inside = true
+				entry = Entry{Track: tp.name, Zone: z.Name, Enter: 0, Depth: -d0}
+			}
+			if d0 < near {
+				nearOn, entered = true, inside
+				np = NearPass{Track: tp.name, Zone: z.Name, Start: 0, T: 0, Dist: d0}
+			}
+			for k := 1; k < n; k++ {
+				t, d := at(k)
+				if t <= prevT {
+					break
+				}
+				// entries
+				switch {
+				case !inside && d <= 0:
+					inside, entered = true, true
+					entry = Entry{Track: tp.name, Zone: z.Name, Enter: bisect(dist, prevT, t), Depth: -d}
+				case inside && d > 0:
+					inside = false
+					entry.Exit = bisect(func(t float64) float64 { return -dist(t) }, prevT, t)
+					out.Entries = append(out.Entries, entry)
+				case inside:
+					entry.Depth = math.Max(entry.Depth, -d)
+				}
+				// near passes
+				switch {
+				case !nearOn && d < near:
+					nearOn, entered = true, inside
+					np = NearPass{Track: tp.name, Zone: z.Name, Start: bisect(func(t float64) float64 { return dist(t) - near }, prevT, t), T: t, Dist: d}
+					bestK = k
+				case nearOn && d >= near:
+					nearOn = false
+					np.End = bisect(func(t float64) float64 { return near - dist(t) }, prevT, t)
+					if !entered {
+						np.T, np.Dist = refineMin(dist, bestK, r.duration)
+						out.NearPasses = append(out.NearPasses, np)
+					}
+				case nearOn && d < np.Dist:
+					np.T, np.Dist, bestK = t, d, k
+				}
+				prevT = t
+			}
+			if inside {
+				entry.Exit, entry.Open = r.duration, true
+				out.Entries = append(out.Entries, entry)
+			}
+			if nearOn && !entered {
+				np.End = r.duration
+				np.T, np.Dist = refineMin(dist, bestK, r.duration)
+				out.NearPasses = append(out.NearPasses, np)
+			}
+		}
+	}
+	return out
+}
+
+// bisect finds the time in (a, b] where f changes from > 0 to <= 0, given
+// f(a) > 0 >= f(b), to within TruthTol.
+func bisect(f func(float64) float64, a, b float64) float64 {
+	for b-a > TruthTol {
+		m := a + (b-a)/2
+		if m <= a || m >= b {
+			break
+		}
+		if f(m) <= 0 {
+			b = m
+		} else {
+			a = m
+		}
+	}
+	return b
+}
+
+// refineMin refines a minimum of f found at grid point k by golden-section
+// search over the neighbouring grid interval.
+func refineMin(f func(float64) float64, k int, end float64) (float64, float64) {
+	a := math.Max(0, float64(k-1)*TruthStep)
+	b := math.Min(end, float64(k+1)*TruthStep)
+	const g = 0.6180339887498949
+	c, d := b-g*(b-a), a+g*(b-a)
+	fc, fd := f(c), f(d)
+	for b-a > TruthTol {
+		if fc < fd {
+			b, d, fd = d, c, fc
+			c = b - g*(b-a)
+			fc = f(c)
+		} else {
+			a, c, fc = c, d, fd
+			d = a + g*(b-a)
+			fd = f(d)
+		}
+	}
+	t := (a + b) / 2
+	ft := f(t)
+	// the grid point itself may be lower when f is not unimodal there
+	if tk := math.Min(float64(k)*TruthStep, end); f(tk) < ft {
+		return tk, f(tk)
+	}
+	return t, ft
+}
