@@ -250,6 +250,9 @@ func (f *File) derive() error {
 	if f.Points, err = count("POINT", "USED", h.Points); err != nil {
 		return err
 	}
+	if f.Points > 0xffff {
+		return f.paramErr("POINT", "USED", 2, fmt.Sprintf("%d points (at most 65535)", f.Points))
+	}
 	if f.Scale, err = realParam("POINT", "SCALE", h.Scale); err != nil {
 		return err
 	}
@@ -387,6 +390,9 @@ func (f *File) deriveAnalog() error {
 		if err != nil {
 			return err
 		}
+		if n > 0xffff {
+			return p.errf("%d channels (at most 65535)", n)
+		}
 		ch = n
 	} else if h.AnalogPerFrame > 0 {
 		// No ANALOG group: split the header's values per frame with its
@@ -409,7 +415,9 @@ func (f *File) deriveAnalog() error {
 		if err != nil {
 			return err
 		}
-		spf = int(math.Round(ar / f.Rate))
+		if q := math.Round(ar / f.Rate); q >= 1 && q <= 1<<16 {
+			spf = int(q)
+		}
 	}
 	if spf <= 0 || spf > 1<<16 {
 		return &Error{Section: "header", Offset: 4, Msg: fmt.Sprintf("analog values per frame (%d) do not fit ANALOG:USED = %d channels", h.AnalogPerFrame, ch)}

@@ -65,8 +65,13 @@ type Reader struct {
 // fixed when it is made: about 64 KiB (or one frame when frames are
 // larger) plus one Frame.
 func (f *File) NewReader() *Reader {
+	if f.Frames == 0 {
+		// Nothing to read; Decode only bounds the frame size by the file
+		// size when there are frames, so allocate nothing.
+		return &Reader{f: f}
+	}
 	per := 1
-	if f.FrameSize > 0 && f.FrameSize < chunkBytes {
+	if f.FrameSize < chunkBytes {
 		per = chunkBytes / f.FrameSize
 	}
 	return &Reader{
