@@ -13,10 +13,11 @@ import (
 // oriented box, sphere, cylinder, capsule, convex prism) that is the exact
 // Euclidean signed distance to the inflated solid everywhere. For a prism
 // with a non-convex footprint it is exact outside the inflated solid and on
-// its surface (so containment and every touch test are exact); inside, near
-// a reflex corner of the footprint, the true depth can be larger than the
-// reported one, and Closest then returns the point Margin beyond Base's
-// nearest surface point, which may lie inside the inflated solid.
+// its surface (so containment and every touch test are exact); inside the
+// inflated solid, where the margin reaches round a reflex corner of the
+// footprint (into a notch), the true depth can be larger than the reported
+// one, and Closest then returns the point Margin beyond Base's nearest
+// surface point, which may lie inside the inflated solid.
 type Inflated struct {
 	base   evaluator
 	margin float64
