@@ -53,6 +53,10 @@ const exitBand = 0.005
 // near miss, not many (our choice, no source).
 const rearmFactor = 1.25
 
+// maxSep bounds the separations reported in reasons (metres), so that no
+// reason carries an infinity.
+const maxSep = 1e6
+
 // Options tune an Engine beyond the cell configuration.
 type Options struct {
 	// MaxTracks bounds the number of tracks (default DefaultMaxTracks);
@@ -490,7 +494,7 @@ func (e *Engine) Sample(s forecast.Sample) {
 	}
 	tr.ft.Add(s.T, s.P)
 	tr.lastT, tr.lastP, tr.has = s.T, s.P, true
-	if !tr.ft.F.Predict(&tr.path, e.horizon(tr)) {
+	if !tr.ft.F.Predict(&tr.path, e.horizon(tr)) || tr.path.Len() == 0 {
 		// Too little history: the path is the measured point itself, at
 		// the present (sample time plus lead), with no uncertainty radius.
 		tr.path.Resize(1)
@@ -681,7 +685,13 @@ func (e *Engine) assess(tr *track, t float64) {
 				st, ri = r.step, j
 			}
 		}
-		rs := Reason{Track: tr.id, Zone: zm.name, HasEntry: hasEntry, TimeToEntry: tte, Separation: sep, MinSeparation: sr.MinSep}
+		// A forecast the sweep cannot judge (non-finite) reads as touching
+		// with MinSep −Inf; reasons stay finite.
+		ms := math.Max(-maxSep, math.Min(maxSep, sr.MinSep))
+		if !finite(tte) {
+			tte = 0
+		}
+		rs := Reason{Track: tr.id, Zone: zm.name, HasEntry: hasEntry, TimeToEntry: tte, Separation: sep, MinSeparation: ms}
 		if ri >= 0 {
 			rs.Rule, rs.Level, rs.Scale = e.rules[ri].name, e.rules[ri].level, e.rules[ri].scale
 		}
