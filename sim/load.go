@@ -985,30 +985,107 @@ func (d *decoder) checkLosses(sc *Scenario) {
 }
 
 // occluder decodes one occluder: a name and one shape section, written as
-// a zone's shape in the cell configuration.
+// a zone's shape in the cell configuration (box, obox, sphere, cylinder,
+// capsule, prism) and built by the zones package.
 func (d *decoder) occluder(n *yaml.Node, path string) (Occluder, bool) {
 	var o Occluder
-	var shapes []string
-	var lo, hi r3.Vec
-	var haveMin, haveMax bool
+	var zc zones.ZoneConfig
+	var shapeKey string
+	var shapeNode *yaml.Node
+	fieldNodes := map[string]*yaml.Node{}
+	pt := func(dst *zones.Point) func(*yaml.Node, string) {
+		return func(v *yaml.Node, p string) {
+			fieldNodes[p[strings.LastIndexByte(p, '.')+1:]] = v
+			q, _ := d.point(v, p, 3)
+			*dst = zones.Point{zones.Length(q.X), zones.Length(q.Y), zones.Length(q.Z)}
+		}
+	}
+	ln := func(dst *zones.Length) func(*yaml.Node, string) {
+		return func(v *yaml.Node, p string) {
+			fieldNodes[p[strings.LastIndexByte(p, '.')+1:]] = v
+			*dst = zones.Length(d.length(v, p, -maxLength, maxLength))
+		}
+	}
+	angles := func(dst **[3]float64) func(*yaml.Node, string) {
+		return func(v *yaml.Node, p string) {
+			fieldNodes["rpy"] = v
+			var a [3]float64
+			items := d.seq(v, p)
+			if len(items) != 3 {
+				d.errorf(v, p, "want [roll, pitch, yaw] in degrees")
+				return
+			}
+			for i, e := range items {
+				a[i], _ = d.number(e, fmt.Sprintf("%s[%d]", p, i))
+			}
+			*dst = &a
+		}
+	}
+	quat := func(dst **[4]float64) func(*yaml.Node, string) {
+		return func(v *yaml.Node, p string) {
+			fieldNodes["quat"] = v
+			var q [4]float64
+			items := d.seq(v, p)
+			if len(items) != 4 {
+				d.errorf(v, p, "want a unit quaternion [w, x, y, z]")
+				return
+			}
+			for i, e := range items {
+				q[i], _ = d.number(e, fmt.Sprintf("%s[%d]", p, i))
+			}
+			*dst = &q
+		}
+	}
+	section := func(key string, fields func() map[string]func(*yaml.Node, string)) func(*yaml.Node, string) {
+		return func(v *yaml.Node, p string) {
+			if shapeKey != "" {
+				d.errorf(v, p, "an occluder has one shape; %s is given already", shapeKey)
+				return
+			}
+			shapeKey, shapeNode = key, v
+			d.fields(v, p, fields())
+		}
+	}
+	nerr := len(d.errs)
 	ok := d.fields(n, path, map[string]func(*yaml.Node, string){
 		"name": func(v *yaml.Node, p string) { o.Name, _ = d.str(v, p) },
-		"box": func(v *yaml.Node, p string) {
-			shapes = append(shapes, "box")
-			d.fields(v, p, map[string]func(*yaml.Node, string){
-				"min": func(v *yaml.Node, p string) { lo, haveMin = d.point(v, p, 3) },
-				"max": func(v *yaml.Node, p string) { hi, haveMax = d.point(v, p, 3) },
-			})
-			if !haveMin || !haveMax {
-				d.errorf(v, p, "a box needs min and max")
-				return
+		"box": section("box", func() map[string]func(*yaml.Node, string) {
+			zc.Box = &zones.BoxConfig{}
+			return map[string]func(*yaml.Node, string){"min": pt(&zc.Box.Min), "max": pt(&zc.Box.Max)}
+		}),
+		"obox": section("obox", func() map[string]func(*yaml.Node, string) {
+			zc.OBox = &zones.OBoxConfig{}
+			return map[string]func(*yaml.Node, string){"center": pt(&zc.OBox.Center), "size": pt(&zc.OBox.Size),
+				"rpy": angles(&zc.OBox.RPY), "quat": quat(&zc.OBox.Quat)}
+		}),
+		"sphere": section("sphere", func() map[string]func(*yaml.Node, string) {
+			zc.Sphere = &zones.SphereConfig{}
+			return map[string]func(*yaml.Node, string){"center": pt(&zc.Sphere.Center), "radius": ln(&zc.Sphere.Radius)}
+		}),
+		"cylinder": section("cylinder", func() map[string]func(*yaml.Node, string) {
+			zc.Cylinder = &zones.CylinderConfig{}
+			return map[string]func(*yaml.Node, string){"a": pt(&zc.Cylinder.A), "b": pt(&zc.Cylinder.B), "radius": ln(&zc.Cylinder.Radius)}
+		}),
+		"capsule": section("capsule", func() map[string]func(*yaml.Node, string) {
+			zc.Capsule = &zones.CapsuleConfig{}
+			return map[string]func(*yaml.Node, string){"a": pt(&zc.Capsule.A), "b": pt(&zc.Capsule.B), "radius": ln(&zc.Capsule.Radius)}
+		}),
+		"prism": section("prism", func() map[string]func(*yaml.Node, string) {
+			zc.Prism = &zones.PrismConfig{}
+			return map[string]func(*yaml.Node, string){
+				"footprint": func(v *yaml.Node, p string) {
+					fieldNodes["footprint"] = v
+					for i, e := range d.seq(v, p) {
+						ep := fmt.Sprintf("%s[%d]", p, i)
+						fieldNodes[fmt.Sprintf("footprint[%d]", i)] = e
+						q, _ := d.point(e, ep, 2)
+						zc.Prism.Footprint = append(zc.Prism.Footprint, [2]zones.Length{zones.Length(q.X), zones.Length(q.Y)})
+					}
+				},
+				"zmin": ln(&zc.Prism.ZMin),
+				"zmax": ln(&zc.Prism.ZMax),
 			}
-			if !(lo.X < hi.X && lo.Y < hi.Y && lo.Z < hi.Z) {
-				d.errorf(v, p+".max", "must exceed min on every axis")
-				return
-			}
-			o.Shape = &aabb{lo, hi}
-		},
+		}),
 	})
 	if !ok {
 		return o, false
@@ -1016,11 +1093,32 @@ func (d *decoder) occluder(n *yaml.Node, path string) (Occluder, bool) {
 	if o.Name == "" {
 		d.errorf(n, path+".name", "missing: every occluder has a name")
 	}
-	if len(shapes) != 1 {
-		d.errorf(n, path, "want exactly one shape section (box)")
+	if shapeKey == "" {
+		d.errorf(n, path, "no shape: give one of box, obox, sphere, cylinder, capsule, prism")
 		return o, false
 	}
-	return o, o.Shape != nil && o.Name != ""
+	if len(d.errs) > nerr {
+		return o, false // the shape's fields are reported already
+	}
+	shape, err := zc.Shape()
+	if err != nil {
+		at, field := shapeNode, path+"."+shapeKey
+		var se *zones.ShapeError
+		if errors.As(err, &se) {
+			if fn := fieldNodes[se.Field]; fn != nil {
+				at = fn
+			}
+			if se.Field != "" {
+				field += "." + se.Field
+			}
+			d.errorf(at, field, "%s", se.Msg)
+		} else {
+			d.errorf(at, field, "%v", err)
+		}
+		return o, false
+	}
+	o.Shape = shape
+	return o, o.Name != ""
 }
 
 // validName reports whether s is a usable operator or hand name: 1 to 31

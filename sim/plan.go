@@ -109,7 +109,7 @@ func (p *planner) addSeg(h int, s segment) {
 	}
 	p.segs[h] = append(p.segs[h], s)
 	p.handEnd[h] = t1
-	p.hands[h] = s.at(t1)
+	p.hands[h] = s.final()
 }
 
 func (p *planner) track(h int) string { return p.op.name + "/" + p.op.hands[h].name }
@@ -186,8 +186,6 @@ func (p *planner) step(i int, st *step, t0 float64) (end float64) {
 			}
 			p.addSeg(h, &walkSeg{w: w, start: cellToBody(p.body, heading, p.hands[h]), rest: hd.rest,
 				blend: blend, amp: p.op.swing.amp, freq: p.op.swing.freq, phase: phase})
-			// exactly at rest at the end, whatever the rounding
-			p.hands[h] = bodyToCell(dest, heading, hd.rest)
 		}
 		p.body, p.heading = dest, heading
 		act.End, act.To = t0+w.dur, dest

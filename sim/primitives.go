@@ -36,9 +36,13 @@ func MinJerkProgress(tau float64) (s, ds, dds float64) {
 
 func (m MinJerk) tau(t float64) float64 { return (t - m.Start) / m.Duration }
 
-// Position at time t.
+// Position at time t. It is exactly To from the end on.
 func (m MinJerk) Position(t float64) r3.Vec {
-	s, _, _ := MinJerkProgress(m.tau(t))
+	tau := m.tau(t)
+	if tau >= 1 {
+		return m.To
+	}
+	s, _, _ := MinJerkProgress(tau)
 	return r3.Add(m.From, r3.Scale(s, r3.Sub(m.To, m.From)))
 }
 
@@ -67,6 +71,9 @@ func FittsDuration(a, b, d, w float64) float64 {
 type segment interface {
 	span() (t0, t1 float64)
 	at(t float64) r3.Vec
+	// final is the position at the end, exactly (at(t1) may differ by
+	// rounding of t1 − t0).
+	final() r3.Vec
 }
 
 // holdSeg keeps the hand still at p.
@@ -77,6 +84,7 @@ type holdSeg struct {
 
 func (h *holdSeg) span() (float64, float64) { return h.t0, h.t1 }
 func (h *holdSeg) at(float64) r3.Vec        { return h.p }
+func (h *holdSeg) final() r3.Vec            { return h.p }
 
 // reachSeg is a minimum-jerk reach, optionally lifted: the vertical offset
 // lift·4·s(1−s) (s the minimum-jerk progress) raises the middle of the path
@@ -87,11 +95,16 @@ type reachSeg struct {
 }
 
 func (r *reachSeg) span() (float64, float64) { return r.m.Start, r.m.Start + r.m.Duration }
+func (r *reachSeg) final() r3.Vec            { return r.m.To }
 func (r *reachSeg) at(t float64) r3.Vec {
 	if r.lift == 0 {
 		return r.m.Position(t)
 	}
-	s, _, _ := MinJerkProgress(r.m.tau(t))
+	tau := r.m.tau(t)
+	if tau >= 1 {
+		return r.m.To
+	}
+	s, _, _ := MinJerkProgress(tau)
 	p := r3.Add(r.m.From, r3.Scale(s, r3.Sub(r.m.To, r.m.From)))
 	p.Z += r.lift * 4 * s * (1 - s)
 	return p
@@ -108,6 +121,7 @@ type sweepSeg struct {
 }
 
 func (w *sweepSeg) span() (float64, float64) { return w.t0, w.t0 + w.dur }
+func (w *sweepSeg) final() r3.Vec            { return w.at(math.Inf(1)) }
 func (w *sweepSeg) at(t float64) r3.Vec {
 	s, _, _ := MinJerkProgress((t - w.t0) / w.dur)
 	a := s * w.angle
@@ -151,6 +165,7 @@ type walkSeg struct {
 }
 
 func (s *walkSeg) span() (float64, float64) { return s.w.t0, s.w.t0 + s.w.dur }
+func (s *walkSeg) final() r3.Vec            { return bodyToCell(s.w.to, s.w.heading, s.rest) }
 func (s *walkSeg) at(t float64) r3.Vec {
 	dt := t - s.w.t0
 	b, _, _ := MinJerkProgress(dt / s.blend)

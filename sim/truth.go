@@ -3,14 +3,29 @@ package sim
 import (
 	"math"
 
+	"gonum.org/v1/gonum/spatial/r3"
+
 	"forereach/zones"
 )
 
-// Zone is a named volume for ground-truth queries (a fixed hazard zone of
-// the cell, without its margin).
+// Zone is a named volume for ground-truth queries: a hazard zone of the
+// cell without its margin (a zones.Shape, or a *zones.Zone at its pose).
 type Zone struct {
-	Name  string
-	Shape zones.Shape
+	Name   string
+	Volume interface{ SignedDistance(r3.Vec) float64 }
+}
+
+// FixedZones returns the zones of a set that are fixed in the cell, for
+// Truth. Zones attached to a robot frame are left out: the simulator does
+// not move the robot.
+func FixedZones(set *zones.ZoneSet) []Zone {
+	var out []Zone
+	for i := 0; i < set.Len(); i++ {
+		if z := set.Zone(i); z.Frame == "" {
+			out = append(out, Zone{Name: z.Name, Volume: z.Shape})
+		}
+	}
+	return out
 }
 
 // Entry is a hand inside a zone's shape from Enter to Exit, on the true
@@ -55,11 +70,11 @@ func (r *Run) Truth(zs []Zone, near float64) Truth {
 	n := int(math.Ceil(r.duration/TruthStep)) + 1
 	for _, tp := range r.plans {
 		for _, z := range zs {
-			dist := func(t float64) float64 { return z.Shape.SignedDistance(tp.position(t, nil)) }
+			dist := func(t float64) float64 { return z.Volume.SignedDistance(tp.position(t, nil)) }
 			var cursor int
 			at := func(k int) (float64, float64) {
 				t := math.Min(float64(k)*TruthStep, r.duration)
-				return t, z.Shape.SignedDistance(tp.position(t, &cursor))
+				return t, z.Volume.SignedDistance(tp.position(t, &cursor))
 			}
 			var (
 				inside  bool
