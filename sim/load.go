@@ -591,7 +591,7 @@ func (d *decoder) stationsSection(n *yaml.Node, path string, st map[string]r3.Ve
 		var haveAt bool
 		d.fields(e, ep, map[string]func(*yaml.Node, string){
 			"name": func(v *yaml.Node, p string) { name, _ = d.str(v, p) },
-			"at":   func(v *yaml.Node, p string) { at, haveAt = d.point(v, p, 3) },
+			"at":   func(v *yaml.Node, p string) { at, _ = d.point(v, p, 3); haveAt = true },
 		})
 		switch {
 		case name == "":
@@ -660,7 +660,7 @@ func (d *decoder) operator(n *yaml.Node, path string, sc *Scenario, moves *int) 
 	}
 	ok := d.fields(n, path, map[string]func(*yaml.Node, string){
 		"name":    func(*yaml.Node, string) {},
-		"at":      func(v *yaml.Node, p string) { op.at, haveAt = d.point(v, p, 2) },
+		"at":      func(v *yaml.Node, p string) { op.at, _ = d.point(v, p, 2); haveAt = true },
 		"heading": func(v *yaml.Node, p string) { op.heading = d.numberIn(v, p, -360, 360) * math.Pi / 180 },
 		"hands":   func(v *yaml.Node, p string) { handsNode = v },
 		"swing": func(v *yaml.Node, p string) {
@@ -697,7 +697,7 @@ func (d *decoder) operator(n *yaml.Node, path string, sc *Scenario, moves *int) 
 			var haveRest bool
 			d.fields(e, ep, map[string]func(*yaml.Node, string){
 				"name": func(v *yaml.Node, p string) { h.name, _ = d.str(v, p) },
-				"rest": func(v *yaml.Node, p string) { h.rest, haveRest = d.point(v, p, 3) },
+				"rest": func(v *yaml.Node, p string) { h.rest, _ = d.point(v, p, 3); haveRest = true },
 			})
 			switch {
 			case h.name == "":

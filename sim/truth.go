@@ -47,10 +47,21 @@ type NearPass struct {
 	Dist        float64
 }
 
+// Approach is the closest a hand came to a zone over a run: Dist metres
+// from the shape's surface at T (negative: that deep inside).
+type Approach struct {
+	Track, Zone string
+	T           float64
+	Dist        float64
+}
+
 // Truth is the ground truth of a run against a set of zones.
 type Truth struct {
 	Entries    []Entry
 	NearPasses []NearPass
+	// Closest holds, for each zone in the order given, the closest approach
+	// of any hand over the run (the first track wins ties).
+	Closest []Approach
 }
 
 // TruthStep is the scan step of Truth: 1 ms of simulated time. Excursions
@@ -68,8 +79,12 @@ const (
 func (r *Run) Truth(zs []Zone, near float64) Truth {
 	var out Truth
 	n := int(math.Ceil(r.duration/TruthStep)) + 1
+	out.Closest = make([]Approach, len(zs))
+	for i, z := range zs {
+		out.Closest[i] = Approach{Zone: z.Name, Dist: math.Inf(1)}
+	}
 	for _, tp := range r.plans {
-		for _, z := range zs {
+		for zi, z := range zs {
 			dist := func(t float64) float64 { return z.Volume.SignedDistance(tp.position(t, nil)) }
 			var cursor int
 			at := func(k int) (float64, float64) {
@@ -86,6 +101,7 @@ func (r *Run) Truth(zs []Zone, near float64) Truth {
 			)
 			t0, d0 := at(0)
 			prevT := t0
+			minK, minD := 0, d0
 			if d0 <= 0 {
 				inside = true
 				entry = Entry{Track: tp.name, Zone: z.Name, Enter: 0, Depth: -d0}
@@ -98,6 +114,9 @@ func (r *Run) Truth(zs []Zone, near float64) Truth {
 				t, d := at(k)
 				if t <= prevT {
 					break
+				}
+				if d < minD {
+					minK, minD = k, d
 				}
 				// entries
 				switch {
@@ -128,6 +147,10 @@ func (r *Run) Truth(zs []Zone, near float64) Truth {
 					np.T, np.Dist, bestK = t, d, k
 				}
 				prevT = t
+			}
+			if c := &out.Closest[zi]; minD < c.Dist {
+				c.Track = tp.name
+				c.T, c.Dist = refineMin(dist, minK, r.duration)
 			}
 			if inside {
 				entry.Exit, entry.Open = r.duration, true

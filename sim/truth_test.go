@@ -73,6 +73,27 @@ func TestTruthPlantedIncidents(t *testing.T) {
 			t.Errorf("near pass %d: closest approach %g outside [%g, %g]", i, g.T, g.Start, g.End)
 		}
 	}
+	// Closest approaches: infeed-pick and robot-envelope are entered
+	// (negative distances). The right hand at (2.5, 3.95, 1.0) is 0.8 m
+	// inside the envelope's west face x = 1.7, 0.65 m from its north face
+	// y = 4.6 and 2 m below its top: depth 0.65. The other zones stay
+	// farther than the near distance (no near pass was reported).
+	for _, c := range tr.Closest {
+		switch c.Zone {
+		case "robot-envelope":
+			if c.Track != "op1/right" || math.Abs(c.Dist+0.65) > 1e-9 {
+				t.Errorf("closest approach to robot-envelope %+v, want op1/right at -0.65 m", c)
+			}
+		case "infeed-pick":
+			if c.Track != "op1/right" || math.Abs(c.Dist+0.3) > 1e-9 {
+				t.Errorf("closest approach to infeed-pick %+v, want op1/right at -0.3 m", c)
+			}
+		default:
+			if c.Dist < 0.15 {
+				t.Errorf("closest approach to %s %+v: closer than the near distance, yet no near pass", c.Zone, c)
+			}
+		}
+	}
 	if ls := r.Losses(); len(ls) != 1 || ls[0] != (LossWindow{"op1/right", 6, 6.5}) {
 		t.Errorf("losses %+v, want op1/right over [6, 6.5)", ls)
 	}
