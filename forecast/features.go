@@ -9,47 +9,62 @@ import (
 // The fitted model predicts the displacement from the last sample at lead τ
 // as a linear combination of kinematic terms, with one set of gains per
 // horizon: d(τ) = Σ_j g_j(τ)·f_j(τ). The terms are vectors built from causal
-// local polynomial fits over several windows; they rotate with the frame,
-// so gains fitted in one cell frame hold in any other.
+// local polynomial fits; they rotate with the frame, so gains fitted in one
+// cell frame hold in any other.
+//
+// The terms adapt to the regime of the motion. ω, the angular frequency of
+// the recent motion, is the square root of the ratio of the running mean
+// squares of acceleration and speed (time constant oscTau): slow, sustained
+// reaching gives a small ω, quick back-and-forth motion a large one. The
+// terms are those of a harmonic oscillator of that frequency started from
+// the current velocity v and acceleration a,
+//
+//	osc-v = v·sin(ωτ)/ω       (→ v·τ as ωτ → 0)
+//	osc-a = a·(1 − cos ωτ)/ω²  (→ a·τ²/2 as ωτ → 0)
+//
+// with ωτ capped at π (the oscillator's farthest point). For slow motion they
+// reduce to the constant-acceleration extrapolation; for quick motion they
+// damp it, as much as the motion's own time scale says. The fitted gains
+// correct what the oscillator gets wrong, per horizon.
+//
+// The uncertainty radius is z(τ)·σ(τ), with the scale σ(τ) = Σ_j b_j(τ)·s_j(τ)
+// a non-negative combination of the root-mean-square speed times τ, the
+// root-mean-square acceleration times τ²/2, and the recent change of
+// velocity (|v25 − v200|) times τ, so it shrinks for a still hand and grows
+// for a vigorous one; z(τ) is the quantile of the error divided by σ seen in
+// cross-validation.
 //
 // The feature set is versioned: a gains file names its set and the names of
 // its terms, and is refused when they differ from the built-in ones.
-const FeatureSet = "kin-v1"
+const FeatureSet = "osc-v1"
 
 // featureNames name the terms, in order.
 var featureNames = [...]string{
-	"v25*t",        // velocity, linear fit over 25 ms, times τ
-	"v50*t",        // velocity, linear fit over 50 ms
-	"v100*t",       // velocity, linear fit over 100 ms
-	"v200*t",       // velocity, linear fit over 200 ms
-	"v400*t",       // velocity, linear fit over 400 ms
-	"a100*t2/2",    // acceleration, quadratic fit over 100 ms, times τ²/2
-	"a200*t2/2",    // acceleration, quadratic fit over 200 ms
-	"a400*t2/2",    // acceleration, quadratic fit over 400 ms
-	"brake",        // v50 decelerated by the tangential part of a200 down to a stop (see brake)
-	"mean1s",       // mean position over the last second, minus the last sample (a damping pull)
-	"smooth100",    // position of the 100 ms linear fit now, minus the last sample
-	"v50*t*slow",   // v50·τ weighted by the slow-motion indicator (see slowness)
-	"a200*t2*slow", // a200·τ²/2 weighted by the slow-motion indicator
+	"osc-v", // v·sin(ωτ)/ω, v from a quadratic fit over 100 ms
+	"osc-a", // a·(1−cos ωτ)/ω², a from a cubic fit over 300 ms
 }
 
 // NumFeatures is the number of terms of the fitted model.
 const NumFeatures = len(featureNames)
 
-// NumScale is the number of terms of the radius scale model.
-const NumScale = 4
+// NumScale is the number of terms of the radius scale.
+const NumScale = 3
 
-// scaleNames name the terms of the radius scale σ(τ) = Σ_j b_j(τ)·s_j(τ):
-// a floor, the distance the current speed covers in τ, the distance the
-// current acceleration covers, and how much the velocity changed over the
-// last 200 ms times τ (a measure of recent unpredictability).
-var scaleNames = [NumScale]string{"1", "|v50|*t", "|a200|*t2/2", "|v25-v200|*t"}
+// scaleNames name the terms of the radius scale.
+var scaleNames = [NumScale]string{"rms(v)*t", "rms(a)*t2/2", "|v25-v200|*t"}
 
 const (
-	featKeep = 1.05 // seconds of history kept
-	// slowSpeed is the speed (m/s) below which motion counts as slow for the
-	// slow-motion indicator.
-	slowSpeed = 0.5
+	featKeep = 0.35 // seconds of history kept
+	// oscTau is the time constant (s) of the running mean squares of speed
+	// and acceleration whose ratio gives ω.
+	oscTau = 0.5
+	// omegaMin and omegaMax bound ω (rad/s).
+	omegaMin, omegaMax = 0.5, 40.0
+	// minFeatureSpan is the history (s) a track needs before the fitted
+	// model predicts.
+	minFeatureSpan = 0.1
+	// minScale keeps the radius scale positive (m).
+	minScale = 1e-4
 )
 
 // kinState is the kinematic state the terms are built from, refreshed at
@@ -59,112 +74,77 @@ type kinState struct {
 	ok    bool
 	t     float64
 	p     r3.Vec
-	v     [5]r3.Vec // v25, v50, v100, v200, v400
-	a     [3]r3.Vec // a100, a200, a400
-	mean  r3.Vec    // mean1s
-	sm    r3.Vec    // smooth100
-	slow  float64   // slow-motion indicator in [0, 1]
-	speed float64   // |v50|
-	amag  float64   // |a200|
-	dv    float64   // |v25 - v200|
+	v     r3.Vec // velocity, quadratic fit over 100 ms
+	a     r3.Vec // acceleration, cubic fit over 300 ms
+	aq    r3.Vec // acceleration, quadratic fit over 200 ms (for ω)
+	dv    float64
+	msv   float64 // running mean square of |v|
+	msa   float64 // running mean square of |aq|
+	omega float64
+	tms   float64 // time of the last running-mean update
+	nms   int
 	fit   polyFit
 }
 
-var velWindows = [5]float64{0.025, 0.05, 0.1, 0.2, 0.4}
-var accWindows = [3]float64{0.1, 0.2, 0.4}
-
 func newKinState() kinState { return kinState{h: newHistory(featKeep, 8)} }
 
-func (k *kinState) reset() { k.h.reset(); k.ok = false }
-
-// minFeatureSpan is the history (seconds) a track needs before the fitted
-// model predicts.
-const minFeatureSpan = 0.1
+func (k *kinState) reset() { k.h.reset(); k.ok = false; k.nms = 0 }
 
 func (k *kinState) update(t float64, p r3.Vec) {
 	k.h.push(t, p)
 	k.t, k.p = t, p
 	k.ok = false
 	t0, _ := k.h.at(k.h.n - 1)
-	if k.h.n < 5 || t-t0 < minFeatureSpan {
+	if k.h.n < 6 || t-t0 < minFeatureSpan {
 		return
 	}
-	for i, w := range velWindows {
-		if !k.h.fit(&k.fit, 1, w, 3) {
-			return
-		}
-		k.v[i] = k.fit.D[1]
-		if i == 2 {
-			k.sm = r3.Sub(k.fit.D[0], p)
-		}
+	f := &k.fit
+	if !k.h.fit(f, 1, 0.025, 3) {
+		return
 	}
-	for i, w := range accWindows {
-		if !k.h.fit(&k.fit, 2, w, 5) {
-			return
-		}
-		k.a[i] = k.fit.D[2]
+	v25 := f.D[1]
+	if !k.h.fit(f, 1, 0.2, 3) {
+		return
 	}
-	// Mean over the last second (time-weighted by sample count).
-	var sum r3.Vec
-	n := 0
-	for i := 0; i < k.h.n; i++ {
-		ti, pi := k.h.at(i)
-		if t-ti > 1.0 {
-			break
-		}
-		sum = r3.Add(sum, pi)
-		n++
+	k.dv = r3.Norm(r3.Sub(v25, f.D[1]))
+	if !k.h.fit(f, 2, 0.1, 5) {
+		return
 	}
-	k.mean = r3.Sub(r3.Scale(1/float64(n), sum), p)
-	k.speed = r3.Norm(k.v[1])
-	k.amag = r3.Norm(k.a[1])
-	k.dv = r3.Norm(r3.Sub(k.v[0], k.v[3]))
-	// Slow-motion indicator: 1 when the hand has been slow over the last
-	// 400 ms, falling towards 0 as the speed rises.
-	s := math.Max(k.speed, r3.Norm(k.v[4]))
-	k.slow = 1 / (1 + (s/slowSpeed)*(s/slowSpeed))
+	k.v = f.D[1]
+	if !k.h.fit(f, 2, 0.2, 5) {
+		return
+	}
+	k.aq = f.D[2]
+	if !k.h.fit(f, 3, 0.3, 6) {
+		return
+	}
+	k.a = f.D[2]
+	v2, a2 := r3.Norm2(k.v), r3.Norm2(k.aq)
+	if k.nms == 0 {
+		k.msv, k.msa = v2, a2
+	} else {
+		w := -math.Expm1(-(t - k.tms) / oscTau)
+		k.msv += w * (v2 - k.msv)
+		k.msa += w * (a2 - k.msa)
+	}
+	k.tms = t
+	k.nms++
+	k.omega = math.Sqrt(k.msa / math.Max(k.msv, 1e-12))
+	k.omega = math.Min(math.Max(k.omega, omegaMin), omegaMax)
 	k.ok = true
-}
-
-// brake is the displacement at lead tau of a point moving at v that
-// decelerates at the tangential (braking) part of a until it stops, then
-// stays; when a does not brake it is v·tau.
-func brake(v, a r3.Vec, tau float64) r3.Vec {
-	s := r3.Norm(v)
-	if s == 0 {
-		return r3.Vec{}
-	}
-	at := r3.Dot(a, v) / s // tangential acceleration
-	if at >= 0 {
-		return r3.Scale(tau, v)
-	}
-	stop := s / -at
-	if tau > stop {
-		tau = stop
-	}
-	return r3.Scale((s*tau+0.5*at*tau*tau)/s, v)
 }
 
 // features writes the terms at lead tau into f.
 func (k *kinState) features(tau float64, f *[NumFeatures]r3.Vec) {
-	t2 := tau * tau / 2
-	for i := range k.v {
-		f[i] = r3.Scale(tau, k.v[i])
-	}
-	for i := range k.a {
-		f[5+i] = r3.Scale(t2, k.a[i])
-	}
-	f[8] = brake(k.v[1], k.a[1], tau)
-	f[9] = k.mean
-	f[10] = k.sm
-	f[11] = r3.Scale(tau*k.slow, k.v[1])
-	f[12] = r3.Scale(t2*k.slow, k.a[1])
+	w := k.omega
+	wt := math.Min(w*tau, math.Pi)
+	f[0] = r3.Scale(math.Sin(wt)/w, k.v)
+	f[1] = r3.Scale((1-math.Cos(wt))/(w*w), k.a)
 }
 
 // scaleTerms writes the radius scale terms at lead tau into s.
 func (k *kinState) scaleTerms(tau float64, s *[NumScale]float64) {
-	s[0] = 1
-	s[1] = k.speed * tau
-	s[2] = k.amag * tau * tau / 2
-	s[3] = k.dv * tau
+	s[0] = math.Sqrt(k.msv) * tau
+	s[1] = math.Sqrt(k.msa) * tau * tau / 2
+	s[2] = k.dv * tau
 }

@@ -282,7 +282,7 @@ func Fit(files []FitFile, opt FitOptions) (*FitResult, error) {
 		for i := range s {
 			v += b[i] * s[i]
 		}
-		return v
+		return math.Max(v, minScale)
 	}
 	if err := walk("radius quantiles", func(j, k int, ks *kinState, f *[NumFeatures]r3.Vec, d r3.Vec) {
 		ks.scaleTerms(opt.Horizons[k], &s)
@@ -411,12 +411,11 @@ func ridge(a *normalEq, rel float64) ([NumFeatures]float64, error) {
 }
 
 // nnls solves the scale regression min ||S b − |e|||² subject to b >= 0 by
-// an active-set method over the NumScale terms, with the floor term kept
-// positive (at least minScaleFloor) so the scale never vanishes.
+// an active-set method over the NumScale terms.
 func nnls(e *scaleEq) [NumScale]float64 {
 	active := [NumScale]bool{}
 	for i := range active {
-		active[i] = true
+		active[i] = e.sts[i][i] > 0
 	}
 	var b [NumScale]float64
 	for iter := 0; iter < NumScale; iter++ {
@@ -450,7 +449,7 @@ func nnls(e *scaleEq) [NumScale]float64 {
 		worst, wi := 0.0, -1
 		for r, i := range idx {
 			b[i] = x.AtVec(r)
-			if b[i] < worst && i != 0 {
+			if b[i] < worst {
 				worst, wi = b[i], i
 			}
 		}
@@ -459,9 +458,6 @@ func nnls(e *scaleEq) [NumScale]float64 {
 		}
 		active[wi] = false
 	}
-	if b[0] < minScaleFloor {
-		b[0] = minScaleFloor
-	}
 	for i := range b {
 		if b[i] < 0 {
 			b[i] = 0
@@ -469,6 +465,3 @@ func nnls(e *scaleEq) [NumScale]float64 {
 	}
 	return b
 }
-
-// minScaleFloor keeps the radius scale positive (metres).
-const minScaleFloor = 1e-4

@@ -110,7 +110,7 @@ func (m *fittedModel) at(k *kinState, tau float64) (r3.Vec, float64) {
 		sigma += (w0*b0[j] + w1*b1[j]) * s[j]
 	}
 	z := w0*m.z[i0] + w1*m.z[i1]
-	return d, math.Max(0, z*sigma)
+	return d, z * math.Max(sigma, (w0+w1)*minScale)
 }
 
 func (f *fittedForecaster) Predict(dst *Path, h Horizon) bool {
