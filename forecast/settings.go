@@ -48,11 +48,11 @@ type Settings struct {
 // search on the development recordings (see the package tests and
 // `forereach eval`); the Kalman noises are tuned the same way.
 const (
-	DefaultCVWindow         = 0.050 // s
-	DefaultCAWindow         = 0.150 // s
+	DefaultCVWindow         = 0.030 // s
+	DefaultCAWindow         = 0.100 // s
 	DefaultMeasurementNoise = 0.002 // m
-	DefaultProcessNoiseCV   = 60.0  // m/s²
-	DefaultProcessNoiseCA   = 2000  // m/s³
+	DefaultProcessNoiseCV   = 30.0  // m/s²
+	DefaultProcessNoiseCA   = 300   // m/s³
 	DefaultCoverage         = 0.95
 	DefaultGapReset         = 0.25 // s
 	DefaultStep             = 0.02 // s
