@@ -21,10 +21,10 @@ const (
 	DefaultStaleAfter = 0.3  // s, silence after which a track counts as lost
 	DefaultNearTrack  = 0.5  // m, "near a zone" for the tracking-loss rule
 	DefaultNearMiss   = 0.10 // m
-	// DefaultMaxSpeed (m/s) rejects samples implying a faster hand: five
-	// times the 2 m/s hand approach speed of ISO 13855:2010 (clause 6.2.3
-	// uses K = 2000 mm/s). The factor is common practice, no source: it
-	// admits fast hand movements and rejects tracking swaps and glitches.
+	// DefaultMaxSpeed (m/s) rejects samples implying a faster hand. The
+	// value is common practice, no source; for scale, it is five times the
+	// hand approach speed K = 2000 mm/s of ISO 13855:2010. It admits fast
+	// hand movements and rejects tracking swaps and glitches.
 	DefaultMaxSpeed = 10.0
 	// DefaultMaxTracks bounds the number of tracks one engine keeps.
 	DefaultMaxTracks = 64

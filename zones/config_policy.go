@@ -87,8 +87,8 @@ func (p *PolicyConfig) Defaults() {
 		p.NearTrack = 0.5
 	}
 	if p.MaxSpeed == 0 {
-		// Five times the 2 m/s hand approach speed of ISO 13855:2010; the
-		// factor is common practice, no source.
+		// Common practice, no source (five times the hand approach speed
+		// K = 2000 mm/s of ISO 13855:2010).
 		p.MaxSpeed = 10
 	}
 	if p.NearMiss == 0 {
