@@ -251,8 +251,9 @@ type Event struct {
 	Separation float64
 	MinT       float64
 
-	// Advisory: the new level, scale and reasons (Reasons alias engine
-	// memory exactly as Advisory.Reasons does; Clone to keep them).
+	// Advisory: the new level, scale and reasons. Reasons belong to the
+	// engine and stay valid until the next call to Engine.Events; Clone to
+	// keep them longer.
 	Level   Level
 	Scale   float64
 	Seq     uint64
