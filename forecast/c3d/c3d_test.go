@@ -414,7 +414,7 @@ func decodeAndRead(b []byte) error {
 func TestRandomCorruption(t *testing.T) {
 	rng := rand.New(rand.NewSource(1))
 	seeds := [][]byte{newSynth(Intel, false, 6).bytes(), newSynth(DEC, true, 6).bytes(), newSynth(MIPS, true, 6).bytes()}
-	for i := 0; i < 3000; i++ {
+	for i := 0; i < 1500; i++ {
 		b := bytes.Clone(seeds[i%len(seeds)])
 		for k := 1 + rng.Intn(4); k > 0; k-- {
 			b[rng.Intn(len(b))] = byte(rng.Intn(256))
