@@ -12,8 +12,9 @@
 //
 // Every refusal is an *Error naming the section (header, parameter section,
 // a group or parameter, or a data frame) and the byte offset in the file.
-// No input makes the decoder panic or allocate more than the file could
-// justify.
+// No input makes the decoder panic; what it allocates is bounded by the
+// file's size or by the format's 16-bit counts (a few MB at most), never by
+// a product of declared dimensions.
 //
 // The package does no I/O of its own beyond the io.ReaderAt it is given.
 package c3d
@@ -272,6 +273,9 @@ func (f *File) derive() error {
 	}
 	if start < 2 {
 		return f.paramErr("POINT", "DATA_START", 16, fmt.Sprintf("data section block %d (must be 2 or more)", start))
+	}
+	if start <= h.ParamBlock {
+		return f.paramErr("POINT", "DATA_START", 16, fmt.Sprintf("data section block %d is not after the parameter section (block %d)", start, h.ParamBlock))
 	}
 	f.DataStart = int64(start-1) * BlockSize
 

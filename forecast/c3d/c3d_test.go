@@ -346,6 +346,8 @@ func TestMalformed(t *testing.T) {
 			`parameter "POINT:RATE"`, func(b []byte) int64 { return int64(recordAt(t, b, "RATE")) }, "point rate 0"},
 		{"data start 1", func(b []byte) []byte { r := recordAt(t, b, "DATA_START"); b[r+14+2] = 1; b[r+14+3] = 0; return b },
 			`parameter "POINT:DATA_START"`, func(b []byte) int64 { return int64(recordAt(t, b, "DATA_START")) }, "block 1"},
+		{"data start on the parameter section", func(b []byte) []byte { r := recordAt(t, b, "DATA_START"); b[r+14+2] = 2; b[r+14+3] = 0; return b },
+			`parameter "POINT:DATA_START"`, func(b []byte) int64 { return int64(recordAt(t, b, "DATA_START")) }, "not after the parameter section"},
 		{"data start past the end", func(b []byte) []byte { r := recordAt(t, b, "DATA_START"); b[r+14+2] = 0; b[r+14+3] = 0x40; return b },
 			"data section", func([]byte) int64 { return (0x4000 - 1) * 512 }, "before the end of the first frame"},
 		{"data truncated", func(b []byte) []byte { return b[:len(b)-3] },
