@@ -21,7 +21,7 @@ import (
 //
 //	{"v":1,"kind":"header","cell":"pl3-palletiser","config_digest":"9f2c…","forereach":"0.1.0","start":"2025-03-04T07:12:09.5Z","part":0,"source":"tcp://127.0.0.1:1883"}
 //	{"v":1,"kind":"sample","t":1741072329.512,"arrival":1741072329.514,"track":"op1/right","pos":[1.2,0.35,1.05],"q":0.97}
-//	{"v":1,"kind":"reject","arrival":1741072329.6,"topic":"forereach/pl3-palletiser/hands","reason":"bad_json","error":"…","payload":"{\"t\":","size":5}
+//	{"v":1,"kind":"reject","arrival":1741072329.6,"topic":"forereach/pl3-palletiser/hands","reason":"bad-json","error":"…","payload":"{\"t\":","size":5}
 //	{"v":1,"kind":"robot","t":1741072329.52,"arrival":1741072329.521,"frames":[{"name":"tool","pos":[1.6,0.2,1.1],"quat":[1,0,0,0]}],"speed":0.8,"stop_time":0.35,"stop_dist":0.12}
 //	{"v":1,"kind":"advisory","cell":"pl3-palletiser","t":1741072329.512,"seq":7,"level":"reduce","scale":0.5,"reasons":[…],"horizon":0.5,"issued":1741072329.515,"advisory_only":"advisory only: …"}
 //

@@ -258,7 +258,7 @@ func jsonError(b []byte, err error) *fieldError {
 	case errors.As(err, &se):
 		msg := "invalid JSON at byte " + strconv.FormatInt(se.Offset, 10) + ": " + se.Error()
 		if bytes.Contains(b, []byte("NaN")) || bytes.Contains(b, []byte("Infinity")) {
-			return &fieldError{ReasonNotFinite, "", "NaN and Infinity are not JSON numbers (" + msg + ")"}
+			return &fieldError{ReasonNonFinite, "", "NaN and Infinity are not JSON numbers (" + msg + ")"}
 		}
 		return &fieldError{ReasonBadJSON, "", msg}
 	case errors.As(err, &te):
@@ -266,7 +266,7 @@ func jsonError(b []byte, err error) *fieldError {
 			return &fieldError{ReasonBadJSON, "", "want a JSON object, got " + te.Value}
 		}
 		if strings.HasPrefix(te.Value, "number") && (te.Type.Kind() == reflect.Float64 || te.Type.Kind() == reflect.Float32) {
-			return &fieldError{ReasonNotFinite, te.Field, te.Value + " is beyond the range of float64"}
+			return &fieldError{ReasonNonFinite, te.Field, te.Value + " is beyond the range of float64"}
 		}
 		return &fieldError{ReasonBadField, te.Field, "want " + typeName(te.Type.String()) + ", got " + te.Value}
 	default:

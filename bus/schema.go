@@ -23,22 +23,22 @@ const (
 	DefaultMaxSize = 65536  // bytes of one MQTT payload (bus.max_payload)
 )
 
-// Rejection reasons, as counted in metrics and written in recordings.
+// Rejection reasons of the decoders, as counted in metrics and written in
+// recordings. The advisory engine's own reasons (policy.RejectReason names,
+// such as "implausible-speed") are used as they are.
 const (
-	ReasonOversize     = "oversize"      // payload larger than the configured limit
-	ReasonBadJSON      = "bad_json"      // not a JSON object
-	ReasonNotFinite    = "not_finite"    // NaN, Infinity or a number beyond float64
-	ReasonBadVersion   = "bad_version"   // "v" absent from the schema versions we read
-	ReasonMissingField = "missing_field" // a required field is absent or null
-	ReasonBadField     = "bad_field"     // a field of the wrong type or out of range
-	ReasonUnknownTrack = "unknown_track" // a track not listed in bus.tracks, or one too many
-	ReasonOutOfOrder   = "out_of_order"  // source time not after the track's previous sample
-	ReasonEngine       = "engine"        // refused by the advisory engine (its message says why)
+	ReasonOversize     = "oversize"      // payload larger than bus.max_payload
+	ReasonBadJSON      = "bad-json"      // not a JSON object
+	ReasonNonFinite    = "non-finite"    // NaN, Infinity or a number beyond float64
+	ReasonBadVersion   = "bad-version"   // "v" is not a schema version we read
+	ReasonMissingField = "missing-field" // a required field is absent or null
+	ReasonBadField     = "bad-field"     // a field of the wrong type or out of range
+	ReasonUnknownTrack = "unknown-track" // a track not listed in bus.tracks
 )
 
-// Reasons lists every rejection reason, for metrics that pre-declare labels.
-var Reasons = []string{ReasonOversize, ReasonBadJSON, ReasonNotFinite, ReasonBadVersion,
-	ReasonMissingField, ReasonBadField, ReasonUnknownTrack, ReasonOutOfOrder, ReasonEngine}
+// Reasons lists the decoders' rejection reasons.
+var Reasons = []string{ReasonOversize, ReasonBadJSON, ReasonNonFinite, ReasonBadVersion,
+	ReasonMissingField, ReasonBadField, ReasonUnknownTrack}
 
 // PayloadError says what was wrong with one MQTT payload (or one sample of a
 // batch). It names the topic, the field (a JSON path such as
@@ -121,15 +121,24 @@ type Reason struct {
 	Track string `json:"track"`
 	Zone  string `json:"zone"`
 	Rule  string `json:"rule,omitempty"`
-	// Level requested by this reason alone.
-	Level string `json:"level,omitempty"`
-	// EntryIn is the forecast time until the hand reaches the zone (s);
-	// absent when the forecast does not reach it.
+	// Level and Scale requested by this reason alone.
+	Level string   `json:"level,omitempty"`
+	Scale *float64 `json:"scale,omitempty"`
+	// EntryIn is the forecast time from now until the hand (with its
+	// uncertainty radius and the zone's margin) reaches the zone, in
+	// seconds; absent when the forecast does not reach it.
 	EntryIn *float64 `json:"entry_in,omitempty"`
-	// Sep is the current separation from the zone, margin included (m);
-	// negative inside.
-	Sep  *float64 `json:"sep,omitempty"`
-	Text string   `json:"text,omitempty"`
+	// Sep is the distance from the hand's latest measured position to the
+	// zone's shape (m, negative inside; the margin is not subtracted).
+	Sep *float64 `json:"sep,omitempty"`
+	// MinSep is the minimum forecast separation over the horizon: distance
+	// to the shape minus uncertainty radius minus margin (m).
+	MinSep *float64 `json:"min_sep,omitempty"`
+	// Required is the protective separation distance (m) for the
+	// protective-separation rule.
+	Required *float64 `json:"required,omitempty"`
+	// Text says the same in words.
+	Text string `json:"text,omitempty"`
 }
 
 // Status is the retained status message of a service instance; the broker
@@ -201,7 +210,7 @@ func checkPos(field string, p []float64) *fieldError {
 // checkTime validates a source time.
 func checkTime(field string, t float64) *fieldError {
 	if math.IsNaN(t) || math.IsInf(t, 0) {
-		return &fieldError{ReasonNotFinite, field, "not a finite number"}
+		return &fieldError{ReasonNonFinite, field, "not a finite number"}
 	}
 	if t < 0 {
 		return &fieldError{ReasonBadField, field, "negative time " + strconv.FormatFloat(t, 'g', -1, 64)}
@@ -261,6 +270,9 @@ func checkRobot(st *RobotState) *fieldError {
 	}
 	if st.StopDist != nil && !(*st.StopDist >= 0 && *st.StopDist <= 10) {
 		return &fieldError{ReasonBadField, "stop_dist", "stopping distance must be in [0, 10] m"}
+	}
+	if st.StopDist != nil && st.StopTime == nil {
+		return &fieldError{ReasonMissingField, "stop_time", "stop_dist given without stop_time"}
 	}
 	return nil
 }

@@ -1,0 +1,69 @@
+package bus
+
+import (
+	"fmt"
+	"log/slog"
+	"net"
+
+	mochi "github.com/mochi-mqtt/server/v2"
+	"github.com/mochi-mqtt/server/v2/hooks/auth"
+	"github.com/mochi-mqtt/server/v2/listeners"
+)
+
+// Broker is an MQTT broker embedded in the process (mochi-mqtt), for demos,
+// tests and a single machine without a broker of its own. It accepts
+// anonymous clients, so it only listens on the loopback interface.
+type Broker struct {
+	srv  *mochi.Server
+	addr string
+}
+
+// StartBroker starts a broker listening on addr (host:port; port 0 picks a
+// free one). The host must be a loopback address: the embedded broker has
+// no authentication.
+func StartBroker(addr string, log *slog.Logger) (*Broker, error) {
+	host, _, err := net.SplitHostPort(addr)
+	if err != nil {
+		return nil, fmt.Errorf("embedded broker: %q: want host:port, e.g. 127.0.0.1:1883", addr)
+	}
+	if host == "" || !isLoopbackHost(host) {
+		return nil, fmt.Errorf("embedded broker: %q: it accepts anyone without a password, so it listens on the loopback interface only (e.g. 127.0.0.1:1883)", addr)
+	}
+	if log == nil {
+		log = slog.New(slog.DiscardHandler)
+	}
+	srv := mochi.New(&mochi.Options{
+		Logger:                 log.With("component", "embedded-broker"),
+		InlineClient:           false,
+		SysTopicResendInterval: 3600,
+	})
+	if err := srv.AddHook(new(auth.AllowHook), nil); err != nil {
+		return nil, fmt.Errorf("embedded broker: %w", err)
+	}
+	tcp := listeners.NewTCP(listeners.Config{ID: "tcp", Address: addr})
+	if err := srv.AddListener(tcp); err != nil {
+		return nil, fmt.Errorf("embedded broker: listen on %s: %w", addr, err)
+	}
+	if err := srv.Serve(); err != nil {
+		srv.Close()
+		return nil, fmt.Errorf("embedded broker: %w", err)
+	}
+	return &Broker{srv: srv, addr: tcp.Address()}, nil
+}
+
+// Addr is the address the broker listens on (host:port).
+func (b *Broker) Addr() string { return b.addr }
+
+// URL is the broker's address as a client URL, tcp://host:port.
+func (b *Broker) URL() string { return "tcp://" + b.addr }
+
+// Close stops the broker and disconnects its clients.
+func (b *Broker) Close() error { return b.srv.Close() }
+
+func isLoopbackHost(host string) bool {
+	if host == "localhost" {
+		return true
+	}
+	ip := net.ParseIP(host)
+	return ip != nil && ip.IsLoopback()
+}

@@ -1,0 +1,63 @@
+package bus
+
+import (
+	"fmt"
+	"os"
+	"path/filepath"
+
+	"forereach/forecast"
+	"forereach/policy"
+	"forereach/zones"
+)
+
+// ModelFromConfig makes the forecast model the forecast section names. A
+// gains file is read relative to the configuration file.
+func ModelFromConfig(cfg *zones.Config) (forecast.Model, error) {
+	fc := &cfg.Forecast
+	kind := fc.Model
+	if kind == "" {
+		kind = forecast.KindKalmanCV
+	}
+	s := forecast.Settings{
+		Kind:             kind,
+		Window:           fc.Window.Seconds(),
+		MeasurementNoise: float64(fc.MeasurementNoise),
+		ProcessNoise:     fc.ProcessNoise,
+		Coverage:         fc.Coverage,
+	}
+	if kind == forecast.KindFitted && fc.Gains != "" {
+		path := fc.Gains
+		if cfg.Source != "" && !filepath.IsAbs(path) {
+			path = filepath.Join(filepath.Dir(cfg.Source), path)
+		}
+		f, err := os.Open(path)
+		if err != nil {
+			return nil, fmt.Errorf("forecast.gains: %w", err)
+		}
+		defer f.Close()
+		g, err := forecast.ReadGains(f, path)
+		if err != nil {
+			return nil, fmt.Errorf("forecast.gains: %w", err)
+		}
+		s.Gains = g
+	}
+	m, err := forecast.NewModel(s)
+	if err != nil {
+		return nil, fmt.Errorf("forecast: %w", err)
+	}
+	return m, nil
+}
+
+// NewEngine builds the cell's zones, its forecast model and the advisory
+// engine from a loaded configuration, with at most bus.max_tracks tracks.
+func NewEngine(cfg *zones.Config) (*policy.Engine, error) {
+	zs, err := cfg.BuildZones()
+	if err != nil {
+		return nil, err
+	}
+	m, err := ModelFromConfig(cfg)
+	if err != nil {
+		return nil, err
+	}
+	return policy.NewEngine(cfg, zs, m, policy.Options{MaxTracks: cfg.Bus.MaxTracks})
+}
