@@ -74,7 +74,7 @@ func ftoa(v float64) string { return strconv.FormatFloat(v, 'g', -1, 64) }
 
 // unitOr returns v/|v|, or fallback when v is zero.
 func unitOr(v, fallback r3.Vec) r3.Vec {
-	n := r3.Norm(v)
+	n := norm(v)
 	if n == 0 {
 		return fallback
 	}
@@ -109,9 +109,9 @@ func (b AABB) Contains(p r3.Vec) bool {
 // Distance returns the Euclidean distance between the two boxes, zero when
 // they overlap or touch.
 func (b AABB) Distance(c AABB) float64 {
-	dx := math.Max(0, math.Max(b.Min.X-c.Max.X, c.Min.X-b.Max.X))
-	dy := math.Max(0, math.Max(b.Min.Y-c.Max.Y, c.Min.Y-b.Max.Y))
-	dz := math.Max(0, math.Max(b.Min.Z-c.Max.Z, c.Min.Z-b.Max.Z))
+	dx := max(0, max(b.Min.X-c.Max.X, c.Min.X-b.Max.X))
+	dy := max(0, max(b.Min.Y-c.Max.Y, c.Min.Y-b.Max.Y))
+	dz := max(0, max(b.Min.Z-c.Max.Z, c.Min.Z-b.Max.Z))
 	return math.Sqrt(dx*dx + dy*dy + dz*dz)
 }
 
@@ -120,8 +120,8 @@ func (b AABB) Distance(c AABB) float64 {
 // v along perpendicular directions (an extrusion: a 2D profile times an
 // interval). It is min(max(u,v),0) + |(max(u,0), max(v,0))|.
 func sdCombine2(u, v float64) float64 {
-	ou, ov := math.Max(u, 0), math.Max(v, 0)
-	return math.Min(math.Max(u, v), 0) + math.Hypot(ou, ov)
+	ou, ov := max(u, 0), max(v, 0)
+	return min(max(u, v), 0) + math.Sqrt(ou*ou+ov*ov)
 }
 
 // combineGrad returns the signed distance and gradient of an extrusion from
@@ -131,8 +131,8 @@ func sdCombine2(u, v float64) float64 {
 // both are zero, gu.
 func combineGrad(u, v float64, gu, gv r3.Vec) (float64, r3.Vec) {
 	if u > 0 || v > 0 {
-		ou, ov := math.Max(u, 0), math.Max(v, 0)
-		h := math.Hypot(ou, ov)
+		ou, ov := max(u, 0), max(v, 0)
+		h := math.Sqrt(ou*ou + ov*ov)
 		return h, r3.Add(r3.Scale(ou/h, gu), r3.Scale(ov/h, gv))
 	}
 	if u >= v {
@@ -140,3 +140,7 @@ func combineGrad(u, v float64, gu, gv r3.Vec) (float64, r3.Vec) {
 	}
 	return v, gv
 }
+
+// norm is |v| without r3.Norm's overflow guard (math.Hypot), which is
+// several times slower; coordinates here are metres, far from overflow.
+func norm(v r3.Vec) float64 { return math.Sqrt(v.X*v.X + v.Y*v.Y + v.Z*v.Z) }

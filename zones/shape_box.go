@@ -93,9 +93,9 @@ func boxInflatedVolume(h r3.Vec, m float64) float64 {
 // half extents h centred at the origin.
 func boxSD(q, h r3.Vec) float64 {
 	dx, dy, dz := math.Abs(q.X)-h.X, math.Abs(q.Y)-h.Y, math.Abs(q.Z)-h.Z
-	ox, oy, oz := math.Max(dx, 0), math.Max(dy, 0), math.Max(dz, 0)
+	ox, oy, oz := max(dx, 0), max(dy, 0), max(dz, 0)
 	out := math.Sqrt(ox*ox + oy*oy + oz*oz)
-	return out + math.Min(math.Max(dx, math.Max(dy, dz)), 0)
+	return out + min(max(dx, max(dy, dz)), 0)
 }
 
 func sgn(v float64) float64 {
@@ -110,7 +110,7 @@ func sgn(v float64) float64 {
 func boxSDGrad(q, h r3.Vec) (float64, r3.Vec) {
 	dx, dy, dz := math.Abs(q.X)-h.X, math.Abs(q.Y)-h.Y, math.Abs(q.Z)-h.Z
 	if dx > 0 || dy > 0 || dz > 0 {
-		ox, oy, oz := math.Max(dx, 0), math.Max(dy, 0), math.Max(dz, 0)
+		ox, oy, oz := max(dx, 0), max(dy, 0), max(dz, 0)
 		out := math.Sqrt(ox*ox + oy*oy + oz*oz)
 		return out, r3.Vec{X: sgn(q.X) * ox / out, Y: sgn(q.Y) * oy / out, Z: sgn(q.Z) * oz / out}
 	}
@@ -136,9 +136,9 @@ func boxClosest(q, h r3.Vec) r3.Vec {
 	dx, dy, dz := math.Abs(q.X)-h.X, math.Abs(q.Y)-h.Y, math.Abs(q.Z)-h.Z
 	if dx > 0 || dy > 0 || dz > 0 {
 		return r3.Vec{
-			X: math.Max(-h.X, math.Min(h.X, q.X)),
-			Y: math.Max(-h.Y, math.Min(h.Y, q.Y)),
-			Z: math.Max(-h.Z, math.Min(h.Z, q.Z)),
+			X: max(-h.X, min(h.X, q.X)),
+			Y: max(-h.Y, min(h.Y, q.Y)),
+			Z: max(-h.Z, min(h.Z, q.Z)),
 		}
 	}
 	switch {

@@ -48,18 +48,18 @@ func (c *Capsule) axisPoint(p r3.Vec) r3.Vec {
 		return c.a
 	}
 	t := r3.Dot(r3.Sub(p, c.a), c.d) / c.dd
-	t = math.Max(0, math.Min(1, t))
+	t = max(0, min(1, t))
 	return r3.Add(c.a, r3.Scale(t, c.d))
 }
 
 // SignedDistance returns dist(p, AB) − r.
 func (c *Capsule) SignedDistance(p r3.Vec) float64 {
-	return r3.Norm(r3.Sub(p, c.axisPoint(p))) - c.r
+	return norm(r3.Sub(p, c.axisPoint(p))) - c.r
 }
 
 func (c *Capsule) sdGrad(p r3.Vec) (float64, r3.Vec) {
 	v := r3.Sub(p, c.axisPoint(p))
-	n := r3.Norm(v)
+	n := norm(v)
 	if n == 0 {
 		return -c.r, r3.Vec{} // 0 is a subgradient on the axis
 	}
@@ -92,8 +92,8 @@ func (c *Capsule) Contains(p r3.Vec) bool {
 func (c *Capsule) Bounds() AABB {
 	e := r3.Vec{X: c.r, Y: c.r, Z: c.r}
 	return AABB{
-		Min: r3.Sub(r3.Vec{X: math.Min(c.a.X, c.b.X), Y: math.Min(c.a.Y, c.b.Y), Z: math.Min(c.a.Z, c.b.Z)}, e),
-		Max: r3.Add(r3.Vec{X: math.Max(c.a.X, c.b.X), Y: math.Max(c.a.Y, c.b.Y), Z: math.Max(c.a.Z, c.b.Z)}, e),
+		Min: r3.Sub(r3.Vec{X: min(c.a.X, c.b.X), Y: min(c.a.Y, c.b.Y), Z: min(c.a.Z, c.b.Z)}, e),
+		Max: r3.Add(r3.Vec{X: max(c.a.X, c.b.X), Y: max(c.a.Y, c.b.Y), Z: max(c.a.Z, c.b.Z)}, e),
 	}
 }
 

@@ -28,7 +28,7 @@ func NewCylinder(a, b r3.Vec, r float64) (*Cylinder, error) {
 		return nil, err
 	}
 	d := r3.Sub(b, a)
-	l := r3.Norm(d)
+	l := norm(d)
 	if l == 0 {
 		return nil, &ShapeError{Field: "b", Msg: "zero volume: a and b coincide"}
 	}
@@ -53,7 +53,7 @@ func (c *Cylinder) parts(p r3.Vec) (y float64, v r3.Vec, rho float64) {
 	w := r3.Sub(p, c.a)
 	y = r3.Dot(w, c.u)
 	v = r3.Sub(w, r3.Scale(y, c.u))
-	return y, v, r3.Norm(v)
+	return y, v, norm(v)
 }
 
 // SignedDistance returns the exact Euclidean signed distance to the
@@ -95,8 +95,8 @@ func (c *Cylinder) Closest(p r3.Vec) r3.Vec {
 	dr, dz := rho-c.r, math.Abs(y-0.5*c.l)-0.5*c.l
 	switch {
 	case dr > 0 || dz > 0: // outside: clamp in the (radial, axial) plane
-		rho = math.Min(rho, c.r)
-		y = math.Max(0, math.Min(c.l, y))
+		rho = min(rho, c.r)
+		y = max(0, min(c.l, y))
 	case dr >= dz: // inside, nearer the side
 		rho = c.r
 	default: // inside, nearer an end disc
@@ -119,13 +119,13 @@ func (c *Cylinder) Contains(p r3.Vec) bool {
 // r·sqrt(1 − u_i²) along axis i, u the unit axis.
 func (c *Cylinder) Bounds() AABB {
 	e := r3.Vec{
-		X: c.r * math.Sqrt(math.Max(0, 1-c.u.X*c.u.X)),
-		Y: c.r * math.Sqrt(math.Max(0, 1-c.u.Y*c.u.Y)),
-		Z: c.r * math.Sqrt(math.Max(0, 1-c.u.Z*c.u.Z)),
+		X: c.r * math.Sqrt(max(0, 1-c.u.X*c.u.X)),
+		Y: c.r * math.Sqrt(max(0, 1-c.u.Y*c.u.Y)),
+		Z: c.r * math.Sqrt(max(0, 1-c.u.Z*c.u.Z)),
 	}
 	return AABB{
-		Min: r3.Sub(r3.Vec{X: math.Min(c.a.X, c.b.X), Y: math.Min(c.a.Y, c.b.Y), Z: math.Min(c.a.Z, c.b.Z)}, e),
-		Max: r3.Add(r3.Vec{X: math.Max(c.a.X, c.b.X), Y: math.Max(c.a.Y, c.b.Y), Z: math.Max(c.a.Z, c.b.Z)}, e),
+		Min: r3.Sub(r3.Vec{X: min(c.a.X, c.b.X), Y: min(c.a.Y, c.b.Y), Z: min(c.a.Z, c.b.Z)}, e),
+		Max: r3.Add(r3.Vec{X: max(c.a.X, c.b.X), Y: max(c.a.Y, c.b.Y), Z: max(c.a.Z, c.b.Z)}, e),
 	}
 }
 

@@ -43,11 +43,11 @@ func (s *Sphere) Radius() float64 { return s.r }
 func (s *Sphere) Kind() string { return "sphere" }
 
 // SignedDistance returns |p − c| − r.
-func (s *Sphere) SignedDistance(p r3.Vec) float64 { return r3.Norm(r3.Sub(p, s.c)) - s.r }
+func (s *Sphere) SignedDistance(p r3.Vec) float64 { return norm(r3.Sub(p, s.c)) - s.r }
 
 func (s *Sphere) sdGrad(p r3.Vec) (float64, r3.Vec) {
 	d := r3.Sub(p, s.c)
-	n := r3.Norm(d)
+	n := norm(d)
 	if n == 0 {
 		return -s.r, r3.Vec{} // 0 is a subgradient at the centre
 	}

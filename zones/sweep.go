@@ -46,8 +46,8 @@ const maxSplitDepth = 40
 // convex along the segment and the tangents at both ends bound it from
 // below as well.
 func (it *interval) lowerBound(ls float64, cvx bool) float64 {
-	lo := math.Min(it.ga, it.gb)
-	lb := math.Min(0.5*(it.ga+it.gb-ls*(it.b-it.a)), lo)
+	lo := min(it.ga, it.gb)
+	lb := min(0.5*(it.ga+it.gb-ls*(it.b-it.a)), lo)
 	if !cvx {
 		return lb
 	}
@@ -59,10 +59,10 @@ func (it *interval) lowerBound(ls float64, cvx bool) float64 {
 		tb = it.gb
 	default: // da < 0 < db: the tangents cross inside the interval
 		s := (it.gb - it.ga + it.da*it.a - it.db*it.b) / (it.da - it.db)
-		s = math.Max(it.a, math.Min(it.b, s))
+		s = max(it.a, min(it.b, s))
 		tb = it.ga + it.da*(s-it.a)
 	}
-	return math.Min(math.Max(lb, tb), lo)
+	return min(max(lb, tb), lo)
 }
 
 // sweepLocal runs the exact path query of one shape against the path, whose
@@ -106,7 +106,7 @@ func sweepLocal(ev evaluator, cvx bool, path PathView, n int, posed bool, m *mat
 		e0, e1 := &buf[k], &buf[k+1]
 		dp := r3.Sub(e1.p, e0.p)
 		r0, dr := path.R[k], path.R[k+1]-path.R[k]
-		ls := r3.Norm(dp) + math.Abs(dr)
+		ls := norm(dp) + math.Abs(dr)
 		t0, dt := path.T[k], path.T[k+1]-path.T[k]
 		stack[0] = interval{a: 0, b: 1, ga: e0.g, gb: e1.g,
 			da: r3.Dot(e0.gr, dp) - dr, db: r3.Dot(e1.gr, dp) - dr}
@@ -120,14 +120,14 @@ func sweepLocal(ev evaluator, cvx bool, path PathView, n int, posed bool, m *mat
 			}
 			lb := it.lowerBound(ls, cvx)
 			if (touched || lb > 0) && lb >= best-tol {
-				lbAll = math.Min(lbAll, lb)
+				lbAll = min(lbAll, lb)
 				continue
 			}
 			w := it.b - it.a
 			if sp+2 > len(stack) || w < 1.0/(1<<maxSplitDepth) || math.IsNaN(lb) {
 				// Cannot refine further (only for absurd inputs): keep the
 				// bound, and count a possible touch as a touch.
-				lbAll = math.Min(lbAll, lb)
+				lbAll = min(lbAll, lb)
 				if !touched && !(lb > 0) {
 					touched, touchT = true, t0+it.a*dt
 				}
@@ -151,7 +151,7 @@ func sweepLocal(ev evaluator, cvx bool, path PathView, n int, posed bool, m *mat
 	return SweepResult{
 		Touch:   touched,
 		TouchT:  touchT,
-		MinSep:  math.Min(lbAll, best),
+		MinSep:  min(lbAll, best),
 		MinSepT: bestT,
 	}
 }
@@ -172,13 +172,13 @@ func boxOfPath(path PathView) pathBox {
 	pb := pathBox{box: AABB{Min: path.P[0], Max: path.P[0]}, maxR: path.R[0], n: n, ok: true}
 	for k := 0; k < n; k++ {
 		p := path.P[k]
-		pb.box.Min.X = math.Min(pb.box.Min.X, p.X)
-		pb.box.Min.Y = math.Min(pb.box.Min.Y, p.Y)
-		pb.box.Min.Z = math.Min(pb.box.Min.Z, p.Z)
-		pb.box.Max.X = math.Max(pb.box.Max.X, p.X)
-		pb.box.Max.Y = math.Max(pb.box.Max.Y, p.Y)
-		pb.box.Max.Z = math.Max(pb.box.Max.Z, p.Z)
-		pb.maxR = math.Max(pb.maxR, path.R[k])
+		pb.box.Min.X = min(pb.box.Min.X, p.X)
+		pb.box.Min.Y = min(pb.box.Min.Y, p.Y)
+		pb.box.Min.Z = min(pb.box.Min.Z, p.Z)
+		pb.box.Max.X = max(pb.box.Max.X, p.X)
+		pb.box.Max.Y = max(pb.box.Max.Y, p.Y)
+		pb.box.Max.Z = max(pb.box.Max.Z, p.Z)
+		pb.maxR = max(pb.maxR, path.R[k])
 		if !finiteVec(p) || !finite(path.R[k]) || !finite(path.T[k]) {
 			pb.ok = false
 		}

@@ -76,10 +76,11 @@ const sweepStack = 64
 // separation SignedDistance(P(t)) − R(t) − Margin along the path. See
 // SweepTol for the guarantees.
 //
-// cutoff makes far zones cheap: when the distance between the path's
-// bounding box and the zone's, less the largest radius and the margin, is
-// at least cutoff, the result is Far with that distance as MinSep (a lower
-// bound), MinSepT zero, and no touch. Pass math.Inf(1) to always get the
+// cutoff makes far zones cheap: when the path's bounding box and the
+// zone's are apart and the distance between them, less the path's largest
+// radius and the margin, is at least cutoff, the result is Far with that
+// value as MinSep (a lower bound of the true minimum), MinSepT zero, and no
+// touch. Pass math.Inf(1) to always get the
 // exact answer.
 //
 // An empty path gives Far with MinSep +Inf. A path holding a NaN or
@@ -104,7 +105,14 @@ func (z *Zone) sweep(path PathView, pb pathBox, cutoff float64, buf []pointEval)
 	if !pb.ok {
 		return SweepResult{Touch: true, TouchT: path.T[0], MinSep: math.Inf(-1), MinSepT: path.T[0]}
 	}
-	if lb := pb.box.Distance(z.Bounds()) - pb.maxR - z.Margin; lb >= cutoff {
+	// Outside the zone's bounds the signed distance is at least the
+	// distance to the bounds; inside them it may be negative, so the bound
+	// holds only when the boxes are apart.
+	lb := math.Inf(-1)
+	if d := pb.box.Distance(z.Bounds()); d > 0 {
+		lb = d - pb.maxR - z.Margin
+	}
+	if lb >= cutoff {
 		return SweepResult{MinSep: lb, Far: true}
 	}
 	ev := asEvaluator(z.Shape)
@@ -113,7 +121,10 @@ func (z *Zone) sweep(path PathView, pb pathBox, cutoff float64, buf []pointEval)
 	if posed {
 		m = rotMat(z.Pose.Rot)
 	}
-	return sweepLocal(ev, ev.convex(), path, pb.n, posed, &m, z.Pose.Pos, z.Margin, buf)
+	res := sweepLocal(ev, ev.convex(), path, pb.n, posed, &m, z.Pose.Pos, z.Margin, buf)
+	// Both are lower bounds of the true minimum; keep the tighter.
+	res.MinSep = max(res.MinSep, lb)
+	return res
 }
 
 // ZoneError reports what is wrong with one zone given to NewZoneSet. Index
