@@ -150,6 +150,10 @@ type EvalOptions struct {
 	// (seconds) since its start or last reset, so that every model is scored
 	// on the same samples. <= 0: DefaultWarmup.
 	Warmup float64
+	// Lead is the input latency compensated (seconds, >= 0): a forecast at
+	// horizon h made at a sample's time t is scored against the recorded
+	// position at t + Lead + h (see Horizon.Lead).
+	Lead float64
 }
 
 // DefaultWarmup is long enough for every model's estimation window.
@@ -229,7 +233,7 @@ func runTrack(m Model, tr *TrackData, opt EvalOptions, horizons []float64, fn fu
 	for _, h := range horizons {
 		maxH = math.Max(maxH, h)
 	}
-	hz := Horizon{Step: step, Span: maxH}
+	hz := Horizon{Step: step, Span: maxH, Lead: math.Max(opt.Lead, 0)}
 	idx := make([]int, len(horizons))
 	for k, h := range horizons {
 		idx[k] = int(math.Round(h / step))
@@ -277,7 +281,7 @@ func walkTrack(m Model, tr *TrackData, opt EvalOptions, horizons []float64, got 
 			continue
 		}
 		for k, h := range horizons {
-			truth, ok := cur[k].at(tr, seg, seg[i], t+h)
+			truth, ok := cur[k].at(tr, seg, seg[i], t+math.Max(opt.Lead, 0)+h)
 			if !ok {
 				continue
 			}

@@ -142,7 +142,7 @@ func Fit(files []FitFile, opt FitOptions) (*FitResult, error) {
 	if G < 2 {
 		return nil, fmt.Errorf("cross-validation needs files from at least two groups (got %d)", G)
 	}
-	eo := EvalOptions{GapReset: opt.GapReset, Warmup: opt.Warmup}
+	eo := EvalOptions{GapReset: opt.GapReset, Warmup: opt.Warmup} // horizons are leads: no extra Lead
 	total := 0
 	for _, f := range files {
 		total += len(f.Tracks)

@@ -24,8 +24,12 @@ const (
 // (their noises are equal and independent), so the filter keeps one n×n
 // covariance and three state vectors. The uncertainty radius at lead τ is
 // sqrt(χ²₃(c))·σ_pos(τ), with σ_pos(τ)² the position variance of the
-// predicted covariance F(τ)·P·F(τ)ᵀ + Q(τ): the radius of the ball holding
+// predicted covariance F(τ)·P·F(τ)ᵀ + Q_τ: the radius of the ball holding
 // the true position with probability c under the filter's Gaussian model.
+// Over a lead τ longer than the track's typical sample interval T (a running
+// mean), the process noise enters once per interval, as the model says:
+// Q_τ = Σ_{j<m} F(jT)·Q(T)·F(jT)ᵀ with m = τ/T, summed in closed form
+// (Faulhaber's power sums, extended to real m); for τ <= T, Q_τ = Q(τ).
 type kalmanModel struct {
 	name   string
 	n      int
@@ -49,10 +53,11 @@ type kalmanForecaster struct {
 	x  [3]r3.Vec // position, velocity, acceleration estimates
 	P  mat3      // shared per-axis covariance (only n×n used)
 	K  [3]float64
+	T  float64 // running mean of the sample interval (0: none yet)
 	ok bool
 }
 
-func (f *kalmanForecaster) Reset() { f.ok = false }
+func (f *kalmanForecaster) Reset() { f.ok = false; f.T = 0 }
 
 // transition returns F(T) and the process-noise covariance Q(T).
 func (m *kalmanModel) transition(dt float64) (F, Q mat3) {
@@ -115,6 +120,11 @@ func (f *kalmanForecaster) Update(t float64, p r3.Vec) {
 		return
 	}
 	dt := t - f.t
+	if f.T == 0 {
+		f.T = dt
+	} else {
+		f.T += 0.1 * (dt - f.T)
+	}
 	F, Q := f.m.transition(dt)
 	// Predict.
 	var x [3]r3.Vec
@@ -149,6 +159,9 @@ func (f *kalmanForecaster) Update(t float64, p r3.Vec) {
 func (f *kalmanForecaster) predictAt(tau float64) (r3.Vec, float64) {
 	n := f.m.n
 	F, Q := f.m.transition(tau)
+	if f.T > 0 && tau > f.T {
+		Q = f.m.summedNoise(f.T, tau/f.T)
+	}
 	var p r3.Vec
 	for k := 0; k < n; k++ {
 		p = r3.Add(p, r3.Scale(F[0][k], f.x[k]))
@@ -168,4 +181,42 @@ func (f *kalmanForecaster) Predict(dst *Path, h Horizon) bool {
 		dst.P[k], dst.R[k] = p, f.m.chi*math.Sqrt(math.Max(v, 0))
 	}
 	return true
+}
+
+// summedNoise returns Σ_{j=0}^{m-1} F(jT)·Q(T)·F(jT)ᵀ in closed form. The
+// components of F(jT)·Γ(T) are polynomials in j (degree <= 2), so each
+// element of the sum is a combination of the power sums Σ_{j<m} j^p, p <= 4.
+func (m *kalmanModel) summedNoise(T, steps float64) (Q mat3) {
+	// c[a][p]: coefficient of j^p in component a of F(jT)·Γ(T).
+	var c [3][3]float64
+	if m.n == 2 {
+		c[0] = [3]float64{T * T / 2, T * T, 0}
+		c[1] = [3]float64{T, 0, 0}
+	} else {
+		T3 := T * T * T
+		c[0] = [3]float64{T3 / 6, T3 / 2, T3 / 2}
+		c[1] = [3]float64{T * T / 2, T * T, 0}
+		c[2] = [3]float64{T, 0, 0}
+	}
+	x := steps
+	S := [5]float64{
+		x,
+		x * (x - 1) / 2,
+		x * (x - 1) * (2*x - 1) / 6,
+		x * x * (x - 1) * (x - 1) / 4,
+		x * (x - 1) * (2*x - 1) * (3*x*x - 3*x - 1) / 30,
+	}
+	v := m.sw * m.sw
+	for a := 0; a < m.n; a++ {
+		for b := 0; b <= a; b++ {
+			s := 0.0
+			for p := 0; p < 3; p++ {
+				for q := 0; q < 3; q++ {
+					s += c[a][p] * c[b][q] * S[p+q]
+				}
+			}
+			Q[a][b], Q[b][a] = v*s, v*s
+		}
+	}
+	return Q
 }
