@@ -738,9 +738,13 @@ func (e *Engine) assess(tr *track, t float64) {
 
 		// Near-miss approach.
 		if p.inside {
-			if p.approach {
-				p.entered = true
+			// An entry is never a near miss, even when the hand was not
+			// seen approaching (it reappeared inside after a tracking
+			// loss): the approach it ends with counts as entered.
+			if !p.approach {
+				p.approach, p.minSep, p.minT = true, sep, t
 			}
+			p.entered = true
 		} else if sep < e.nearMiss {
 			if !p.approach {
 				p.approach, p.entered, p.minSep, p.minT = true, false, sep, t
