@@ -69,7 +69,16 @@ func (f *Inflated) sdGrad(p r3.Vec) (float64, r3.Vec) {
 	d, g := f.base.sdGrad(p)
 	return d - f.margin, g
 }
-func (f *Inflated) convex() bool           { return f.base.convex() }
+func (f *Inflated) convex() bool { return f.base.convex() }
+
+// refineBound delegates to the base shape with the margin added (see
+// Prism.refineBound).
+func (f *Inflated) refineBound(p0, dp r3.Vec, r0, dr, m, a, b float64) float64 {
+	if r, ok := f.base.(boundRefiner); ok {
+		return r.refineBound(p0, dp, r0, dr, m+f.margin, a, b)
+	}
+	return math.Inf(-1)
+}
 func (f *Inflated) normal(p r3.Vec) r3.Vec { return f.base.normal(p) }
 
 // Closest returns the point of the inflated surface nearest to p: Base's

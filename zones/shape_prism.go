@@ -20,6 +20,9 @@ type Prism struct {
 	bounds     AABB
 	// per edge i (from pts[i] to pts[i+1]): direction and 1/|d|²
 	ex, ey, inv []float64
+	// pieces is a triangulation of a non-convex footprint into convex
+	// prisms, used by the path query's lower bounds (nil when convex).
+	pieces []*Prism
 }
 
 // NewPrism returns the vertical prism with the given footprint (x, y in
@@ -83,6 +86,13 @@ func NewPrism(footprint []r2.Vec, zmin, zmax float64) (*Prism, error) {
 		}
 	}
 	p.bounds = AABB{Min: r3.Vec{X: lo.X, Y: lo.Y, Z: zmin}, Max: r3.Vec{X: hi.X, Y: hi.Y, Z: zmax}}
+	if !p.isConvex {
+		for _, tri := range earClip(pts) {
+			if piece, err := NewPrism(tri[:], zmin, zmax); err == nil {
+				p.pieces = append(p.pieces, piece)
+			}
+		}
+	}
 	return p, nil
 }
 
@@ -564,4 +574,109 @@ func stadiumChord(v, w r2.Vec, rho, y float64) (lo, hi float64, ok bool) {
 		lo, hi = math.Min(lo, v.X+a0), math.Max(hi, v.X+a1)
 	}
 	return lo, hi, lo <= hi
+}
+
+// earClip triangulates a simple counter-clockwise polygon by ear clipping
+// (O(n³), for configuration time). Collinear corners are never clipped as
+// ears; a polygon the method cannot finish (only through rounding) yields
+// the triangles found so far, which the path query then does not use.
+func earClip(pts []r2.Vec) [][3]r2.Vec {
+	idx := make([]int, len(pts))
+	for i := range idx {
+		idx[i] = i
+	}
+	var tris [][3]r2.Vec
+	for len(idx) > 3 {
+		n := len(idx)
+		clipped := false
+		for i := 0; i < n && !clipped; i++ {
+			a, b, c := pts[idx[(i+n-1)%n]], pts[idx[i]], pts[idx[(i+1)%n]]
+			if orient(a, b, c) <= 0 {
+				continue
+			}
+			ear := true
+			for _, j := range idx {
+				q := pts[j]
+				if q == a || q == b || q == c {
+					continue
+				}
+				if orient(a, b, q) >= 0 && orient(b, c, q) >= 0 && orient(c, a, q) >= 0 {
+					ear = false
+					break
+				}
+			}
+			if ear {
+				tris = append(tris, [3]r2.Vec{a, b, c})
+				idx = append(idx[:i], idx[i+1:]...)
+				clipped = true
+			}
+		}
+		if !clipped {
+			return nil
+		}
+	}
+	if orient(pts[idx[0]], pts[idx[1]], pts[idx[2]]) > 0 {
+		tris = append(tris, [3]r2.Vec{pts[idx[0]], pts[idx[1]], pts[idx[2]]})
+	}
+	return tris
+}
+
+// refineBound returns a lower bound of f(s) = sd(p0 + s·dp) − (r0 + s·dr) − m
+// over s ∈ [a, b], for a non-convex prism, where the Lipschitz bound alone
+// would need many subdivisions (a hand moving along a wall, inside or
+// outside). It returns −Inf when it has nothing to offer.
+//
+// Outside the prism the signed distance is the minimum of the pieces'
+// signed distances (the distance to a union is the minimum of the
+// distances), each convex, so the smallest of the pieces' tangent bounds
+// bounds f at every outside point; when those bounds also show every
+// piece's signed distance positive on the interval, no point of it is
+// inside and that is the answer. Inside, sd = −min_k c_k with c_k the
+// distances to the wall of edge k (the plane distance to the edge) and to
+// the two caps, all convex, so f >= −c_k − R − m, a concave function of s
+// whose minimum over [a, b] is at an end: the largest of these end minima
+// bounds f at every inside point. The result is the smaller of the two.
+func (p *Prism) refineBound(p0, dp r3.Vec, r0, dr, m, a, b float64) float64 {
+	if len(p.pieces) == 0 {
+		return math.Inf(-1)
+	}
+	pa, pb := r3.Add(p0, r3.Scale(a, dp)), r3.Add(p0, r3.Scale(b, dp))
+	ra, rb := r0+a*dr, r0+b*dr
+	ls := norm(dp) + math.Abs(dr)
+	outside := true
+	lbOut := math.Inf(1)
+	for _, q := range p.pieces {
+		sa, ga := q.sdGrad(pa)
+		sb, gb := q.sdGrad(pb)
+		da, db := r3.Dot(ga, dp), r3.Dot(gb, dp)
+		it := interval{a: a, b: b, ga: sa, gb: sb, da: da, db: db}
+		if it.lowerBound(norm(dp), true) <= 0 {
+			outside = false
+		}
+		it = interval{a: a, b: b, ga: sa - ra - m, gb: sb - rb - m, da: da - dr, db: db - dr}
+		lbOut = min(lbOut, it.lowerBound(ls, true))
+	}
+	if outside {
+		return lbOut
+	}
+	lbIn := math.Inf(-1)
+	n := len(p.pts)
+	for i := 0; i < n; i++ {
+		ca := p.edgeDist(i, pa.X, pa.Y)
+		cb := p.edgeDist(i, pb.X, pb.Y)
+		lbIn = max(lbIn, min(-ca-ra, -cb-rb))
+	}
+	lbIn = max(lbIn, min(-math.Abs(pa.Z-p.zmax)-ra, -math.Abs(pb.Z-p.zmax)-rb))
+	lbIn = max(lbIn, min(-math.Abs(pa.Z-p.zmin)-ra, -math.Abs(pb.Z-p.zmin)-rb))
+	return min(lbOut, lbIn-m)
+}
+
+// edgeDist is the plane distance from (x, y) to edge i.
+func (p *Prism) edgeDist(i int, x, y float64) float64 {
+	vx, vy := p.pts[i].X, p.pts[i].Y
+	wx, wy := x-vx, y-vy
+	t := (wx*p.ex[i] + wy*p.ey[i]) * p.inv[i]
+	t = max(0, min(1, t))
+	dx, dy := wx-t*p.ex[i], wy-t*p.ey[i]
+	return math.Sqrt(dx*dx + dy*dy)
 }

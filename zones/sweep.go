@@ -33,6 +33,14 @@ type pointEval struct {
 	gr r3.Vec  // subgradient of the signed distance at p (shape frame)
 }
 
+// boundRefiner is implemented by non-convex shapes that can bound the
+// separation along a piece of segment better than the Lipschitz bound:
+// refineBound returns a lower bound of sd(p0 + s·dp) − (r0 + s·dr) − m over
+// s ∈ [a, b] (p0, dp in the shape's frame), or −Inf.
+type boundRefiner interface {
+	refineBound(p0, dp r3.Vec, r0, dr, m, a, b float64) float64
+}
+
 // interval is a piece [a, b] of one path segment in the segment's parameter
 // s ∈ [0, 1], with f and df/ds at both ends.
 type interval struct{ a, b, ga, gb, da, db float64 }
@@ -99,6 +107,10 @@ func sweepLocal(ev evaluator, cvx bool, path PathView, n int, posed bool, m *mat
 			best, bestT = g, path.T[k]
 		}
 	}
+	var refiner boundRefiner
+	if !cvx {
+		refiner, _ = ev.(boundRefiner)
+	}
 	lbAll := math.Inf(1)
 	touched, touchT := false, 0.0
 	var stack [maxSplitDepth + 2]interval
@@ -122,6 +134,13 @@ func sweepLocal(ev evaluator, cvx bool, path PathView, n int, posed bool, m *mat
 			if (touched || lb > 0) && lb >= best-tol {
 				lbAll = min(lbAll, lb)
 				continue
+			}
+			if refiner != nil {
+				lb = max(lb, refiner.refineBound(e0.p, dp, r0, dr, margin, it.a, it.b))
+				if (touched || lb > 0) && lb >= best-tol {
+					lbAll = min(lbAll, lb)
+					continue
+				}
 			}
 			w := it.b - it.a
 			if sp+2 > len(stack) || w < 1.0/(1<<maxSplitDepth) || math.IsNaN(lb) {
