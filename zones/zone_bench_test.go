@@ -1,6 +1,7 @@
 package zones
 
 import (
+	"fmt"
 	"math"
 	"math/rand/v2"
 	"testing"
@@ -67,5 +68,31 @@ func BenchmarkZoneSweep(b *testing.B) {
 				sinkF += z.Sweep(paths[i&63], math.Inf(1)).MinSep
 			}
 		})
+	}
+}
+
+// BenchmarkZoneSweepAlongWall is the hard case of the path query: a
+// 25-point path running parallel to a wall, inside the zone and just
+// outside its margin, where the separation is flat along the whole path.
+func BenchmarkZoneSweepAlongWall(b *testing.B) {
+	shapes := []namedShape{
+		{"box", must(NewBox(r3.Vec{}, r3.Vec{X: 2, Y: 1, Z: 1}))},
+		{"prism-L", must(NewPrism(lShape, 0, 1))},
+	}
+	for _, ns := range shapes {
+		for _, y := range []float64{0.03, -0.07} {
+			path := PathView{T: make([]float64, 25), P: make([]r3.Vec, 25), R: make([]float64, 25)}
+			for k := range path.T {
+				s := float64(k) / 24
+				path.T[k], path.P[k], path.R[k] = 0.02*float64(k), r3.Vec{X: 0.1 + 1.8*s, Y: y, Z: 0.5}, 0.01
+			}
+			z := &Zone{Name: ns.name, Shape: ns.s, Margin: 0.05}
+			b.Run(fmt.Sprintf("%s/y=%g", ns.name, y), func(b *testing.B) {
+				b.ReportAllocs()
+				for b.Loop() {
+					sinkF += z.Sweep(path, math.Inf(1)).MinSep
+				}
+			})
+		}
 	}
 }

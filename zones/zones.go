@@ -51,13 +51,17 @@ type PathView struct {
 type SweepResult struct {
 	// Touch reports whether the swept sphere touches the zone within the path.
 	Touch bool
-	// TouchT is the earliest touching time (absolute, seconds) when Touch.
+	// TouchT is the earliest touching time (absolute, seconds) when Touch:
+	// never later than the true earliest touch, and within SweepTol of
+	// touching (see SweepTol for the exact guarantees).
 	TouchT float64
 	// MinSep is the minimum over the path of SignedDistance(P(t)) - R(t) -
-	// Margin (metres; negative when touching). Values at or above the cutoff
-	// passed to the query are only a lower bound (Far is then true).
+	// Margin (metres; negative when touching), never above the true minimum
+	// and at most SweepTol below it. Values at or above the cutoff passed to
+	// the query are only a lower bound (Far is then true).
 	MinSep float64
-	// MinSepT is the time at which MinSep is reached (exact results only).
+	// MinSepT is the time at which MinSep is reached, to within SweepTol of
+	// separation (results that are not Far only; zero when Far).
 	MinSepT float64
 	// Far is true when the bounding-volume pre-check showed the path stays
 	// farther than the cutoff, so MinSep is a lower bound.
