@@ -188,11 +188,11 @@ func (d *SampleDecoder) one(topic string, m *sampleMsg, at string) {
 			return
 		}
 	}
-	track := d.intern(m.Track)
-	if len(d.Tracks) > 0 && !d.Tracks[track] {
-		d.fail(topic, &fieldError{ReasonUnknownTrack, at + "track", "track " + strconv.Quote(track) + " is not listed in bus.tracks"})
+	if len(d.Tracks) > 0 && !d.Tracks[m.Track] {
+		d.fail(topic, &fieldError{ReasonUnknownTrack, at + "track", "track " + strconv.Quote(m.Track) + " is not listed in bus.tracks"})
 		return
 	}
+	track := d.intern(m.Track)
 	s := SampleRecord{Sample: forecast.Sample{Track: track, T: m.T, P: r3.Vec{X: m.Pos[0], Y: m.Pos[1], Z: m.Pos[2]}}, HasQuality: hasQ}
 	if hasQ {
 		s.Quality = m.Q

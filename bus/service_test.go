@@ -5,7 +5,6 @@ import (
 	"fmt"
 	"io"
 	"log/slog"
-	"math"
 	"net/http"
 	"net/http/httptest"
 	"os"
@@ -451,4 +450,3 @@ func TestStartBrokerLoopbackOnly(t *testing.T) {
 	}
 }
 
-var _ = math.Inf
