@@ -96,15 +96,13 @@ func (f *Inflated) Bounds() AABB { return f.base.Bounds().Grow(f.margin) }
 
 // Volume returns the volume of the inflated solid. For convex bases it is
 // the Steiner formula V + S·m + M·m² + 4/3·π·m³ (S the surface area, M the
-// integral of mean curvature), written out per shape; for a prism with a
-// non-convex footprint see Prism's inflated volume below. For a shape from
-// outside this package the volume is unknown and NaN is returned.
-//
-// Non-convex prism: the volume is h·A2(m) + 2∫₀^m A2(√(m²−δ²)) dδ with A2(ρ)
-// the footprint's offset area; A2 is the closed form A + Pρ + cρ² (reflex
-// corners corrected) while m is below half the smallest gap between
-// non-neighbouring footprint edges, and is integrated numerically (relative
-// error below 1e-6) beyond.
+// integral of mean curvature), written out per shape. For a prism with a
+// non-convex footprint, where Steiner's formula does not apply, the volume
+// is sliced: h·A2(m) + 2∫₀^m A2(√(m²−δ²)) dδ with A2(ρ) the area of the
+// footprint grown by ρ, which is the closed form A + Pρ + cρ² (corrected at
+// reflex corners) for small margins and is integrated numerically beyond
+// (relative error below 1e-6 in the tests). For a shape from outside this
+// package the volume is unknown and NaN is returned.
 func (f *Inflated) Volume() float64 {
 	if v, ok := f.base.(interface{ inflatedVolume(float64) float64 }); ok {
 		return v.inflatedVolume(f.margin)

@@ -61,9 +61,15 @@ func (z *Zone) Bounds() AABB {
 		return b
 	}
 	m := rotMat(z.Pose.Rot)
+	return placeBounds(b, &m, z.Pose.Pos)
+}
+
+// placeBounds returns the axis-aligned box enclosing box b rotated by m and
+// moved by pos.
+func placeBounds(b AABB, m *mat3, pos r3.Vec) AABB {
 	c := r3.Scale(0.5, r3.Add(b.Min, b.Max))
 	h := m.absApply(r3.Scale(0.5, r3.Sub(b.Max, b.Min)))
-	c = r3.Add(m.apply(c), z.Pose.Pos)
+	c = r3.Add(m.apply(c), pos)
 	return AABB{Min: r3.Sub(c, h), Max: r3.Add(c, h)}
 }
 
@@ -105,22 +111,24 @@ func (z *Zone) sweep(path PathView, pb pathBox, cutoff float64, buf []pointEval)
 	if !pb.ok {
 		return SweepResult{Touch: true, TouchT: path.T[0], MinSep: math.Inf(-1), MinSepT: path.T[0]}
 	}
+	posed := z.Frame != ""
+	m := identityMat
+	zb := z.Shape.Bounds()
+	if posed {
+		m = rotMat(z.Pose.Rot)
+		zb = placeBounds(zb, &m, z.Pose.Pos)
+	}
 	// Outside the zone's bounds the signed distance is at least the
 	// distance to the bounds; inside them it may be negative, so the bound
 	// holds only when the boxes are apart.
 	lb := math.Inf(-1)
-	if d := pb.box.Distance(z.Bounds()); d > 0 {
+	if d := pb.box.Distance(zb); d > 0 {
 		lb = d - pb.maxR - z.Margin
 	}
 	if lb >= cutoff {
 		return SweepResult{MinSep: lb, Far: true}
 	}
 	ev := asEvaluator(z.Shape)
-	posed := z.Frame != ""
-	m := identityMat
-	if posed {
-		m = rotMat(z.Pose.Rot)
-	}
 	res := sweepLocal(ev, ev.convex(), path, pb.n, posed, &m, z.Pose.Pos, z.Margin, buf)
 	// Both are lower bounds of the true minimum; keep the tighter.
 	res.MinSep = max(res.MinSep, lb)
