@@ -169,4 +169,3 @@ func heapInUse() uint64 {
 	runtime.ReadMemStats(&ms)
 	return ms.HeapAlloc
 }
-

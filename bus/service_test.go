@@ -449,4 +449,3 @@ func TestStartBrokerLoopbackOnly(t *testing.T) {
 		t.Fatalf("embedded broker on all interfaces: %v", err)
 	}
 }
-
