@@ -144,20 +144,6 @@ func (d *decoder) fields(n *yaml.Node, path string, handlers map[string]func(v *
 	return true
 }
 
-// has reports whether mapping n has key k.
-func (d *decoder) has(n *yaml.Node, k string) bool {
-	n = d.resolve(n)
-	if n == nil || n.Kind != yaml.MappingNode {
-		return false
-	}
-	for i := 0; i+1 < len(n.Content); i += 2 {
-		if kn := d.resolve(n.Content[i]); kn.Kind == yaml.ScalarNode && kn.Value == k {
-			return true
-		}
-	}
-	return false
-}
-
 func join(path, key string) string {
 	if path == "" {
 		return key
@@ -802,7 +788,7 @@ func (d *decoder) step(n *yaml.Node, path string, sc *Scenario, op *operator) *s
 	case KindPause:
 		st.pause = d.durRange(v, p, 0, MaxDuration)
 	case KindWalk:
-		st.speed = fixed(1.6) // ISO 13855 walking approach speed
+		st.speed = fixed(WalkSpeed)
 		var haveTo bool
 		d.fields(v, p, map[string]func(*yaml.Node, string){
 			"to":       func(v *yaml.Node, p string) { st.to, _ = d.target(v, p, sc, false); haveTo = true },

@@ -158,6 +158,10 @@ var defaultHands = []hand{
 	{name: "right", rest: r3.Vec{X: 0.25, Y: -0.2, Z: 1.0}},
 }
 
+// WalkSpeed is the default speed of a walk, m/s: the walking approach
+// speed K = 1600 mm/s of ISO 13855.
+const WalkSpeed = 1.6
+
 // Step kinds.
 const (
 	KindWalk      = "walk"
