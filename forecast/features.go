@@ -24,24 +24,34 @@ import (
 //
 // with ωτ capped at π (the oscillator's farthest point). For slow motion they
 // reduce to the constant-acceleration extrapolation; for quick motion they
-// damp it, as much as the motion's own time scale says. The fitted gains
-// correct what the oscillator gets wrong, per horizon.
+// damp it, as much as the motion's own time scale says. A third term,
+//
+//	osc-dv = λ·(v50 − v)·sin(ωτ)/ω,  λ = ā²/(ā² + blendAccel²),
+//
+// lets vigorous motion (large running mean square acceleration ā²), where
+// the lag of the 100 ms velocity costs more than noise, use a 50 ms velocity
+// instead. The fitted gains correct what the oscillator gets wrong, per
+// horizon. (Found by leave-one-person-out cross-validation on real wrists:
+// a pooled fit of many raw velocity and acceleration windows does worse on
+// the person left out than these three terms.)
 //
 // The uncertainty radius is z(τ)·σ(τ), with the scale σ(τ) = Σ_j b_j(τ)·s_j(τ)
 // a non-negative combination of the root-mean-square speed times τ, the
 // root-mean-square acceleration times τ²/2, and the recent change of
 // velocity (|v25 − v200|) times τ, so it shrinks for a still hand and grows
 // for a vigorous one; z(τ) is the quantile of the error divided by σ seen in
-// cross-validation.
+// cross-validation. The scale is fitted to the relative error (reweighted
+// least squares, see Fit), so coverage holds in slow and vigorous regimes.
 //
 // The feature set is versioned: a gains file names its set and the names of
 // its terms, and is refused when they differ from the built-in ones.
-const FeatureSet = "osc-v1"
+const FeatureSet = "osc-v2"
 
 // featureNames name the terms, in order.
 var featureNames = [...]string{
-	"osc-v", // v·sin(ωτ)/ω, v from a quadratic fit over 100 ms
-	"osc-a", // a·(1−cos ωτ)/ω², a from a cubic fit over 300 ms
+	"osc-v",  // v·sin(ωτ)/ω, v from a quadratic fit over 100 ms
+	"osc-a",  // a·(1−cos ωτ)/ω², a from a cubic fit over 300 ms
+	"osc-dv", // (v50 − v)·λ·sin(ωτ)/ω, v50 from a quadratic fit over 50 ms
 }
 
 // NumFeatures is the number of terms of the fitted model.
@@ -63,6 +73,12 @@ const (
 	// minFeatureSpan is the history (s) a track needs before the fitted
 	// model predicts.
 	minFeatureSpan = 0.1
+	// blendAccel (m/s²) sets λ = ā²/(ā² + blendAccel²), ā² the running mean
+	// square acceleration: the share of the short-window velocity in
+	// osc-dv. Vigorous motion (large ā) is dominated by the lag of the
+	// longer window, slow motion by measurement noise, so the short window
+	// earns its place only in the first.
+	blendAccel = 10.0
 	// minScale keeps the radius scale positive (m).
 	minScale = 1e-4
 )
@@ -77,6 +93,7 @@ type kinState struct {
 	v     r3.Vec // velocity, quadratic fit over 100 ms
 	a     r3.Vec // acceleration, cubic fit over 300 ms
 	aq    r3.Vec // acceleration, quadratic fit over 200 ms (for ω)
+	vs    r3.Vec // velocity, quadratic fit over 50 ms
 	dv    float64
 	msv   float64 // running mean square of |v|
 	msa   float64 // running mean square of |aq|
@@ -107,10 +124,14 @@ func (k *kinState) update(t float64, p r3.Vec) {
 		return
 	}
 	k.dv = r3.Norm(r3.Sub(v25, f.D[1]))
-	if !k.h.fit(f, 2, 0.1, 5) {
+	if !k.h.fit(f, 2, 0.1, 4) {
 		return
 	}
 	k.v = f.D[1]
+	if !k.h.fit(f, 2, 0.05, 4) {
+		return
+	}
+	k.vs = f.D[1]
 	if !k.h.fit(f, 2, 0.2, 5) {
 		return
 	}
@@ -140,6 +161,8 @@ func (k *kinState) features(tau float64, f *[NumFeatures]r3.Vec) {
 	wt := math.Min(w*tau, math.Pi)
 	f[0] = r3.Scale(math.Sin(wt)/w, k.v)
 	f[1] = r3.Scale((1-math.Cos(wt))/(w*w), k.a)
+	lam := k.msa / (k.msa + blendAccel*blendAccel)
+	f[2] = r3.Scale(lam*math.Sin(wt)/w, r3.Sub(k.vs, k.v))
 }
 
 // scaleTerms writes the radius scale terms at lead tau into s.

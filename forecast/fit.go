@@ -35,6 +35,9 @@ type FitOptions struct {
 	Progress func(stage string, done, total int)
 }
 
+// scaleRounds is the number of rounds of the radius scale regression.
+var scaleRounds = 2
+
 // DefaultRidge is the default relative ridge penalty.
 const DefaultRidge = 1e-3
 
@@ -240,49 +243,63 @@ func Fit(files []FitFile, opt FitOptions) (*FitResult, error) {
 		return r3.Norm(r3.Sub(p, d))
 	}
 	// Pass 2: radius scale equations on out-of-fold residuals. Target G is
-	// the final model; target g < G the model that leaves g out.
-	sc := make([][]scaleEq, G+1)
-	for i := range sc {
-		sc[i] = make([]scaleEq, H)
-	}
-	addScale := func(e *scaleEq, s *[NumScale]float64, r float64) {
-		for i := range s {
-			for j := range s {
-				e.sts[i][j] += s[i] * s[j]
-			}
-			e.ste[i] += s[i] * r
-		}
-	}
-	var s [NumScale]float64
-	if err := walk("radius scale", func(j, k int, ks *kinState, f *[NumFeatures]r3.Vec, d r3.Vec) {
-		ks.scaleTerms(opt.Horizons[k], &s)
-		addScale(&sc[G][k], &s, resid(&ex1[j][k], f, d))
-		for g := 0; g < G; g++ {
-			if g != j {
-				addScale(&sc[g][k], &s, resid(&ex2[j][g][k], f, d))
-			}
-		}
-	}); err != nil {
-		return nil, err
-	}
-	scale := make([][][NumScale]float64, G+1)
-	for t := range scale {
-		scale[t] = make([][NumScale]float64, H)
-		for k := 0; k < H; k++ {
-			scale[t][k] = nnls(&sc[t][k])
-		}
-	}
-	// Pass 3: normalised out-of-fold errors and their quantiles.
-	zs := make([][][]float64, G+1)
-	for t := range zs {
-		zs[t] = make([][]float64, H)
-	}
+	// the final model; target g < G the model that leaves g out. The first
+	// round is ordinary least squares of |e| on the scale terms; later rounds
+	// weight each example by 1/σ² of the previous round, so the fit is of
+	// the relative error and no regime dominates.
 	sigma := func(b *[NumScale]float64, s *[NumScale]float64) float64 {
 		v := 0.0
 		for i := range s {
 			v += b[i] * s[i]
 		}
 		return math.Max(v, minScale)
+	}
+	addScale := func(e *scaleEq, s *[NumScale]float64, r, w float64) {
+		for i := range s {
+			for j := range s {
+				e.sts[i][j] += w * s[i] * s[j]
+			}
+			e.ste[i] += w * s[i] * r
+		}
+	}
+	var s [NumScale]float64
+	var scale [][][NumScale]float64
+	for round := 0; round < scaleRounds; round++ {
+		sc := make([][]scaleEq, G+1)
+		for i := range sc {
+			sc[i] = make([]scaleEq, H)
+		}
+		weight := func(t, k int) float64 {
+			if round == 0 {
+				return 1
+			}
+			v := sigma(&scale[t][k], &s)
+			return 1 / (v * v)
+		}
+		if err := walk(fmt.Sprintf("radius scale %d/%d", round+1, scaleRounds), func(j, k int, ks *kinState, f *[NumFeatures]r3.Vec, d r3.Vec) {
+			ks.scaleTerms(opt.Horizons[k], &s)
+			addScale(&sc[G][k], &s, resid(&ex1[j][k], f, d), weight(G, k))
+			for g := 0; g < G; g++ {
+				if g != j {
+					addScale(&sc[g][k], &s, resid(&ex2[j][g][k], f, d), weight(g, k))
+				}
+			}
+		}); err != nil {
+			return nil, err
+		}
+		next := make([][][NumScale]float64, G+1)
+		for t := range next {
+			next[t] = make([][NumScale]float64, H)
+			for k := 0; k < H; k++ {
+				next[t][k] = nnls(&sc[t][k])
+			}
+		}
+		scale = next
+	}
+	// Pass 3: normalised out-of-fold errors and their quantiles.
+	zs := make([][][]float64, G+1)
+	for t := range zs {
+		zs[t] = make([][]float64, H)
 	}
 	if err := walk("radius quantiles", func(j, k int, ks *kinState, f *[NumFeatures]r3.Vec, d r3.Vec) {
 		ks.scaleTerms(opt.Horizons[k], &s)

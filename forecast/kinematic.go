@@ -66,7 +66,7 @@ type polyForecaster struct {
 
 func (f *polyForecaster) Update(t float64, p r3.Vec) {
 	f.h.push(t, p)
-	f.ok = f.h.fit(&f.fit, f.m.deg, f.m.window, f.m.deg+2)
+	f.ok = f.h.fit(&f.fit, f.m.deg, f.m.window, f.m.deg+1)
 }
 
 func (f *polyForecaster) Reset() { f.h.reset(); f.ok = false }

@@ -74,6 +74,9 @@ type polyFit struct {
 	// N is the number of samples used and Span their time extent (s).
 	N    int
 	Span float64
+	// RMS is the root-mean-square residual of the fit (m), with N − deg − 1
+	// degrees of freedom (0 when there are none).
+	RMS float64
 }
 
 // eval returns the fitted polynomial at tau seconds after the latest sample.
@@ -117,9 +120,11 @@ func (h *history) fit(f *polyFit, deg int, window float64, minN int) bool {
 	m := deg + 1
 	var pw [2*MaxDegree + 1]float64
 	var b [MaxDegree + 1]r3.Vec
+	ss := 0.0
 	for i := 0; i < n; i++ {
 		ti, pi := h.at(i)
 		pi = r3.Sub(pi, pl) // relative to the latest sample, for precision
+		ss += r3.Norm2(pi)
 		u := (ti - tl) / span
 		x := 1.0
 		for k := 0; k <= 2*deg; k++ {
@@ -139,6 +144,16 @@ func (h *history) fit(f *polyFit, deg int, window float64, minN int) bool {
 	var c [MaxDegree + 1]r3.Vec
 	if !solveSPD(&a, m, &b, &c) {
 		return false
+	}
+	// Residual sum of squares: Σ|p|² − Σ_k c_k·b_k (p relative to the
+	// latest sample), per axis summed.
+	rss := ss
+	for k := 0; k < m; k++ {
+		rss -= r3.Dot(c[k], b[k])
+	}
+	f.RMS = 0
+	if n > m && rss > 0 {
+		f.RMS = math.Sqrt(rss / float64(3*(n-m)))
 	}
 	// Derivatives at u=0: k! c_k / span^k.
 	fact, s := 1.0, 1.0
