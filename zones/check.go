@@ -127,8 +127,8 @@ func visit(v reflect.Value, path string, fn func(v reflect.Value, path string)) 
 	}
 }
 
-func (st *loadState) applyDefaults(cfg *Config) {
-	visit(reflect.ValueOf(cfg).Elem(), "", func(v reflect.Value, _ string) {
+func (st *loadState) applyDefaults(root reflect.Value) {
+	visit(root, "", func(v reflect.Value, _ string) {
 		if !v.CanAddr() {
 			return
 		}
@@ -136,7 +136,7 @@ func (st *loadState) applyDefaults(cfg *Config) {
 			u.ScaleUnits(st.scale)
 		}
 	})
-	visit(reflect.ValueOf(cfg).Elem(), "", func(v reflect.Value, _ string) {
+	visit(root, "", func(v reflect.Value, _ string) {
 		if !v.CanAddr() {
 			return
 		}
@@ -146,15 +146,17 @@ func (st *loadState) applyDefaults(cfg *Config) {
 	})
 }
 
-func (st *loadState) runChecks(cfg *Config) {
-	root := &Checker{Config: cfg, Scale: st.scale, st: st}
-	checkCell(root, cfg)
-	visit(reflect.ValueOf(cfg).Elem(), "", func(v reflect.Value, path string) {
+func (st *loadState) runChecks(root reflect.Value, cfg *Config, own func(*Checker)) {
+	top := &Checker{Config: cfg, Scale: st.scale, st: st}
+	if own != nil {
+		own(top)
+	}
+	visit(root, "", func(v reflect.Value, path string) {
 		if !v.CanAddr() {
 			return
 		}
 		if ck, ok := v.Addr().Interface().(Checkable); ok {
-			ck.Check(root.At(path))
+			ck.Check(top.At(path))
 		}
 	})
 }

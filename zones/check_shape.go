@@ -84,10 +84,13 @@ func checkZoneShape(zc *Checker, z *ZoneConfig) {
 	}
 	kind := set[0]
 	sc := zc.At(kind)
+	if zc.st.related(sc.base) {
+		return // a key or value in the section is already reported
+	}
 	missing := false
 	for _, k := range requiredShapeKeys[kind] {
 		if !sc.Has(k) {
-			sc.Errorf("", "missing %s (%s needs %s)", k, kind, strings.Join(requiredShapeKeys[kind], ", "))
+			sc.Errorf(k, "missing (%s needs %s)", kind, strings.Join(requiredShapeKeys[kind], ", "))
 			missing = true
 		}
 	}
@@ -95,7 +98,7 @@ func checkZoneShape(zc *Checker, z *ZoneConfig) {
 		sc.Errorf("quat", "give the rotation as rpy or as quat, not both")
 		missing = true
 	}
-	if missing || zc.st.related(sc.base) {
+	if missing {
 		return
 	}
 	if _, err := z.shape(); err != nil {

@@ -61,7 +61,18 @@ func Load(path string) (*Config, error) {
 // Checks about a field whose decoding already failed are dropped, so one
 // mistake gives one message.
 func Parse(data []byte, name string) (*Config, error) {
-	st := &loadState{
+	sum := sha256.Sum256(data)
+	cfg := &Config{Source: name, Digest: hex.EncodeToString(sum[:])}
+	st := newLoadState(name)
+	st.load(data, cfg, cfg, func(c *Checker) { checkCell(c, cfg) })
+	if len(st.errs) > 0 {
+		return nil, st.configErrors()
+	}
+	return cfg, nil
+}
+
+func newLoadState(name string) *loadState {
+	return &loadState{
 		file:   name,
 		scale:  1,
 		valPos: map[string]yaml.Node{},
@@ -69,21 +80,23 @@ func Parse(data []byte, name string) (*Config, error) {
 		nulls:  map[string]bool{},
 		labels: map[string]string{},
 	}
-	sum := sha256.Sum256(data)
-	cfg := &Config{Source: name, Digest: hex.EncodeToString(sum[:])}
+}
 
+// load runs the four steps on data into the struct v points to. cfg is
+// what Checkers show as Config; own runs the checks of the file's owner
+// before the types' Check methods.
+func (st *loadState) load(data []byte, v any, cfg *Config, own func(*Checker)) {
 	root := st.parseYAML(data)
-	if root != nil {
-		st.decodeRoot(root, cfg)
-		if !st.bad[""] {
-			st.applyDefaults(cfg)
-			st.runChecks(cfg)
-		}
+	if root == nil {
+		return
 	}
-	if len(st.errs) > 0 {
-		return nil, st.configErrors()
+	rv := reflect.ValueOf(v).Elem()
+	st.decodeRoot(root, rv)
+	if st.bad[""] {
+		return
 	}
-	return cfg, nil
+	st.applyDefaults(rv)
+	st.runChecks(rv, cfg, own)
 }
 
 // maxValues bounds the number of YAML values the decoder visits, so that a
@@ -187,18 +200,23 @@ func parentPath(p string) string {
 	return ""
 }
 
-// posOf is the position of the value at path, or of its nearest written
-// ancestor.
+// posOf is the position of the value at path or, when the file does not
+// give it, of the key (or, for a list element, the value) of its nearest
+// written ancestor.
 func (st *loadState) posOf(path string) (line, col int) {
-	for {
+	if n, ok := st.valPos[path]; ok {
+		return n.Line, n.Column
+	}
+	for path != "" {
+		path = parentPath(path)
+		if n, ok := st.keyPos[path]; ok {
+			return n.Line, n.Column
+		}
 		if n, ok := st.valPos[path]; ok {
 			return n.Line, n.Column
 		}
-		if path == "" {
-			return 1, 1
-		}
-		path = parentPath(path)
 	}
+	return 1, 1
 }
 
 // render turns a field path into the form shown to people: the deepest list
@@ -293,11 +311,47 @@ func (st *loadState) syntaxErr(err error, data []byte) {
 	msg := err.Error()
 	if m := yamlLineRE.FindStringSubmatch(msg); m != nil {
 		line, _ := strconv.Atoi(m[1])
+		if at := problemLine(data, msg); at > line {
+			st.addErr(at, 0, "", "YAML syntax: %s (in the block that starts at line %d)", m[2], line)
+			return
+		}
 		st.addErr(line, 0, "", "YAML syntax: %s", m[2])
 		return
 	}
 	line, col := badByte(data)
 	st.addErr(line, col, "", "YAML syntax: %s", strings.TrimPrefix(msg, "yaml: "))
+}
+
+// problemLine refines the line of a YAML syntax error. The parser names the
+// line where the enclosing block starts rather than the offending line, so
+// this finds the shortest run of leading lines that fails with the same
+// message: its last line is where the file stops making sense. It returns 0
+// when that is not found (or the file is too long to search).
+func problemLine(data []byte, msg string) int {
+	if len(data) > 64<<10 {
+		return 0
+	}
+	for end, line := 0, 1; end < len(data); line++ {
+		nl := bytes.IndexByte(data[end:], '\n')
+		if nl < 0 {
+			return 0 // the whole file is what failed
+		}
+		end += nl + 1
+		var n yaml.Node
+		if err := parsePrefix(data[:end], &n); err != nil && err.Error() == msg {
+			return line
+		}
+	}
+	return 0
+}
+
+func parsePrefix(data []byte, n *yaml.Node) (err error) {
+	defer func() {
+		if r := recover(); r != nil {
+			err = fmt.Errorf("%v", r)
+		}
+	}()
+	return yaml.Unmarshal(data, n)
 }
 
 // badByte locates the first byte YAML does not accept in a file (invalid
@@ -336,7 +390,7 @@ var (
 	point2Type      = reflect.TypeOf([2]Length{})
 )
 
-func (st *loadState) decodeRoot(root *yaml.Node, cfg *Config) {
+func (st *loadState) decodeRoot(root *yaml.Node, v reflect.Value) {
 	// The unit must be known before any length is decoded.
 	if r := resolveAlias(root); r != nil && r.Kind == yaml.MappingNode {
 		for i := 0; i+1 < len(r.Content); i += 2 {
@@ -354,7 +408,11 @@ func (st *loadState) decodeRoot(root *yaml.Node, cfg *Config) {
 			}
 		}
 	}
-	st.decode(root, reflect.ValueOf(cfg).Elem(), "")
+	if r := resolveAlias(root); r == nil || r.Kind != yaml.MappingNode {
+		st.decodeErr(root, "", "the file must be a mapping of keys (cell, units, zones, ...), got %s", describeNode(root))
+		return
+	}
+	st.decode(root, v, "")
 }
 
 // resolveAlias follows aliases (at most a few levels) without recursion.
@@ -588,8 +646,12 @@ func (st *loadState) mappingPairs(n *yaml.Node, path string) []keyVal {
 
 func (st *loadState) mergePairs(val *yaml.Node, path string, depth int) []keyVal {
 	src := resolveAlias(val)
-	if depth > 8 || src == nil || st.expanding[src] {
-		st.decodeErr(val, path, "merge (<<) nests too deep or refers to itself")
+	switch {
+	case src == nil || depth > 8:
+		st.decodeErr(val, path, "merge (<<) nests too deep")
+		return nil
+	case st.expanding[src]:
+		st.decodeErr(val, path, "merge (<<) refers to the mapping that contains it")
 		return nil
 	}
 	var out []keyVal
