@@ -3,6 +3,7 @@ package sim
 import (
 	"errors"
 	"math"
+	"os"
 	"path/filepath"
 	"strings"
 	"testing"
@@ -156,5 +157,38 @@ func TestExampleScenarios(t *testing.T) {
 		if n == 0 {
 			t.Errorf("%s: no samples", p)
 		}
+	}
+}
+
+// The scenario reference in the package documentation (doc.go) is a
+// scenario that loads in the example cell.
+func TestDocExampleLoads(t *testing.T) {
+	b, err := os.ReadFile("doc.go")
+	if err != nil {
+		t.Fatal(err)
+	}
+	var src []string
+	in := false
+	for _, l := range strings.Split(string(b), "\n") {
+		if strings.HasPrefix(l, "//\tscenario: demo") {
+			in = true
+		}
+		if in {
+			if !strings.HasPrefix(l, "//\t") {
+				break
+			}
+			src = append(src, strings.TrimPrefix(l, "//\t"))
+		}
+	}
+	if len(src) < 40 {
+		t.Fatalf("found %d lines of the reference in doc.go", len(src))
+	}
+	sc, err := Load(strings.NewReader(strings.Join(src, "\n")), "doc.go example", exampleCell(t))
+	if err != nil {
+		t.Fatal(err)
+	}
+	acts := sc.Run(1).Actions()
+	if n := 1 + 2 + 1 + 12 + 1 + 2; len(acts) != n { // walk, 2 reaches, sweep, 3 cycles × 4, pause, jab + parallel
+		t.Errorf("%d actions, want %d", len(acts), n)
 	}
 }

@@ -1,24 +1,3 @@
-// Package sim is the operator-approach simulator: it reads a scenario (our
-// own YAML format: operators with hands, a timeline of movement primitives,
-// sensor effects), and produces the measurements a hand tracker would have
-// delivered, in arrival order, on its own simulated time axis. It also gives
-// the ground truth of a run: when each movement started and ended, when a
-// hand entered or came close to a zone, which tracking losses were planted.
-//
-// Movement primitives: minimum-jerk reaches (Flash & Hogan, 1985) whose
-// duration is given or follows Fitts' law in its Shannon form (MacKenzie,
-// 1992); walking approaches of the whole operator (default 1.6 m/s, the
-// walking approach speed of ISO 13855) with arm swing; sweeping arcs;
-// pick-and-place cycles between named stations; pauses. Hands tremble
-// slightly all the time (physiological tremor).
-//
-// Sensor effects: frame rate, Gaussian position noise, random dropouts,
-// occlusion inside occluder volumes, planted tracking losses, latency with
-// jitter, occasional outliers.
-//
-// A run is reproducible: the same scenario and seed give the same
-// measurements, bit for bit. The package does no I/O beyond the readers and
-// writers it is given and never reads the wall clock.
 package sim
 
 import (
