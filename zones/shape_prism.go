@@ -87,11 +87,7 @@ func NewPrism(footprint []r2.Vec, zmin, zmax float64) (*Prism, error) {
 	}
 	p.bounds = AABB{Min: r3.Vec{X: lo.X, Y: lo.Y, Z: zmin}, Max: r3.Vec{X: hi.X, Y: hi.Y, Z: zmax}}
 	if !p.isConvex {
-		for _, tri := range earClip(pts) {
-			if piece, err := NewPrism(tri[:], zmin, zmax); err == nil {
-				p.pieces = append(p.pieces, piece)
-			}
-		}
+		p.pieces = triangulatePrism(pts, zmin, zmax, a)
 	}
 	return p, nil
 }
@@ -576,10 +572,32 @@ func stadiumChord(v, w r2.Vec, rho, y float64) (lo, hi float64, ok bool) {
 	return lo, hi, lo <= hi
 }
 
+// triangulatePrism cuts a prism with a non-convex footprint into triangular
+// prisms whose union is the prism. It returns nil (the path query then uses
+// Lipschitz bounds only) unless the triangles' areas add up to the
+// footprint's area to 1e-9 relative: the pieces' distances are only a valid
+// bound when they cover the footprint exactly.
+func triangulatePrism(pts []r2.Vec, zmin, zmax, area float64) []*Prism {
+	var pieces []*Prism
+	var sum float64
+	for _, tri := range earClip(pts) {
+		piece, err := NewPrism(tri[:], zmin, zmax)
+		if err != nil {
+			return nil
+		}
+		pieces = append(pieces, piece)
+		sum += piece.area
+	}
+	if math.Abs(sum-area) > 1e-9*area {
+		return nil
+	}
+	return pieces
+}
+
 // earClip triangulates a simple counter-clockwise polygon by ear clipping
-// (O(n³), for configuration time). Collinear corners are never clipped as
-// ears; a polygon the method cannot finish (only through rounding) yields
-// the triangles found so far, which the path query then does not use.
+// (O(n³), for configuration time; footprints have tens of points).
+// Collinear corners are never clipped as ears; it returns nil when it
+// cannot finish (possible only through rounding).
 func earClip(pts []r2.Vec) [][3]r2.Vec {
 	idx := make([]int, len(pts))
 	for i := range idx {

@@ -338,3 +338,35 @@ func lVolume(m float64) float64 {
 	A, P, h, c := 3.0, 8.0, 1.0, 5*math.Pi/4-1
 	return h*(A+P*m+c*m*m) + 2*(A*m+P*math.Pi*m*m/4+2.0/3*c*m*m*m)
 }
+
+// The triangulation behind the non-convex prism's path bounds covers the
+// footprint: areas add up (closed form: shoelace areas 3 and 5, see lShape
+// and uShape), n − 2 triangles, every piece inside the prism.
+func TestPrismTriangulation(t *testing.T) {
+	for _, c := range []struct {
+		fp   []r2.Vec
+		area float64
+	}{{lShape, 3}, {uShape, 5}} {
+		p := must(NewPrism(c.fp, 0, 1))
+		if len(p.pieces) != len(c.fp)-2 {
+			t.Fatalf("%d pieces for %d points", len(p.pieces), len(c.fp))
+		}
+		var sum float64
+		for _, q := range p.pieces {
+			sum += q.area
+			for _, v := range q.pts {
+				if p.SignedDistance(r3.Vec{X: v.X, Y: v.Y, Z: 0.5}) > 1e-12 {
+					t.Errorf("piece corner %v outside the prism", v)
+				}
+			}
+		}
+		if !near(sum, c.area, 1e-12) {
+			t.Errorf("triangles cover %g, footprint area %g", sum, c.area)
+		}
+	}
+	// A footprint with a corner on a straight run still triangulates.
+	withCollinear := []r2.Vec{{X: 0, Y: 0}, {X: 1, Y: 0}, {X: 2, Y: 0}, {X: 2, Y: 2}, {X: 1, Y: 2}, {X: 1, Y: 1}, {X: 0, Y: 1}}
+	if p := must(NewPrism(withCollinear, 0, 1)); p.pieces == nil {
+		t.Error("no triangulation for a footprint with a collinear corner")
+	}
+}
