@@ -70,6 +70,10 @@ type CVStats struct {
 	Coverage float64 `yaml:"coverage"` // of the radius at the default coverage
 }
 
+// maxGain bounds every number of a gains file: fitted values are of order 1,
+// and the bound keeps forecasts finite whatever a file says.
+const maxGain = 1e3
+
 // Check reports the first problem with g.
 func (g *Gains) Check() error {
 	if g.Format != GainsFormat {
@@ -107,8 +111,8 @@ func (g *Gains) Check() error {
 	}
 	for i, h := range g.Horizons {
 		where := fmt.Sprintf("horizons[%d]", i)
-		if !(h.MS > 0) || math.IsInf(h.MS, 0) || (i > 0 && h.MS <= g.Horizons[i-1].MS) {
-			return fmt.Errorf("%s.ms: %g: horizons must be positive and increasing", where, h.MS)
+		if !(h.MS > 0 && h.MS <= 1e4) || (i > 0 && h.MS <= g.Horizons[i-1].MS) {
+			return fmt.Errorf("%s.ms: %g: horizons must be increasing, between 0 and 10000 ms", where, h.MS)
 		}
 		if len(h.Gains) != NumFeatures {
 			return fmt.Errorf("%s.gains: %d values, want %d", where, len(h.Gains), NumFeatures)
@@ -120,18 +124,18 @@ func (g *Gains) Check() error {
 			return fmt.Errorf("%s.radius_z: %d values, want one per level (%d)", where, len(h.RadiusZ), len(g.Levels))
 		}
 		for j, v := range h.Gains {
-			if math.IsNaN(v) || math.IsInf(v, 0) {
-				return fmt.Errorf("%s.gains[%d]: not finite", where, j)
+			if !(math.Abs(v) <= maxGain) {
+				return fmt.Errorf("%s.gains[%d]: %g: must be finite, within ±%g", where, j, v, maxGain)
 			}
 		}
 		for j, v := range h.Scale {
-			if !(v >= 0) || math.IsInf(v, 0) {
-				return fmt.Errorf("%s.scale[%d]: %g: must be finite and >= 0", where, j, v)
+			if !(v >= 0 && v <= maxGain) {
+				return fmt.Errorf("%s.scale[%d]: %g: must be between 0 and %g", where, j, v, maxGain)
 			}
 		}
 		for j, v := range h.RadiusZ {
-			if !(v >= 0) || math.IsInf(v, 0) || (j > 0 && v < h.RadiusZ[j-1]) {
-				return fmt.Errorf("%s.radius_z[%d]: %g: must be finite, >= 0 and non-decreasing", where, j, v)
+			if !(v >= 0 && v <= maxGain) || (j > 0 && v < h.RadiusZ[j-1]) {
+				return fmt.Errorf("%s.radius_z[%d]: %g: must be between 0 and %g, non-decreasing", where, j, v, maxGain)
 			}
 		}
 	}

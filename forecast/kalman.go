@@ -155,19 +155,34 @@ func (f *kalmanForecaster) Update(t float64, p r3.Vec) {
 }
 
 // predictAt returns the predicted position and its per-axis variance tau
-// seconds after the last update.
+// seconds after the last update: row 0 of F(τ), and f0ᵀ·P·f0 + Q_τ[0][0].
 func (f *kalmanForecaster) predictAt(tau float64) (r3.Vec, float64) {
 	n := f.m.n
-	F, Q := f.m.transition(tau)
-	if f.T > 0 && tau > f.T {
-		Q = f.m.summedNoise(f.T, tau/f.T)
-	}
+	f0 := [3]float64{1, tau, tau * tau / 2}
 	var p r3.Vec
-	for k := 0; k < n; k++ {
-		p = r3.Add(p, r3.Scale(F[0][k], f.x[k]))
+	v := 0.0
+	for i := 0; i < n; i++ {
+		p = r3.Add(p, r3.Scale(f0[i], f.x[i]))
+		for j := 0; j < n; j++ {
+			v += f0[i] * f.P[i][j] * f0[j]
+		}
 	}
-	P := propagate(n, F, f.P, Q)
-	return p, P[0][0]
+	return p, v + f.m.positionNoise(f.T, tau)
+}
+
+// positionNoise returns the position element of the process noise over a
+// lead tau: Q(τ)[0][0] for τ <= T (or no T yet), else the sum over τ/T
+// sample intervals (see summedNoise).
+func (m *kalmanModel) positionNoise(T, tau float64) float64 {
+	if T > 0 && tau > T {
+		Q := m.summedNoise(T, tau/T)
+		return Q[0][0]
+	}
+	g := tau * tau / 2
+	if m.n == 3 {
+		g = tau * tau * tau / 6
+	}
+	return m.sw * m.sw * g * g
 }
 
 func (f *kalmanForecaster) Predict(dst *Path, h Horizon) bool {

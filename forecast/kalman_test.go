@@ -193,31 +193,66 @@ func TestKalmanSummedNoise(t *testing.T) {
 // The radius is the chi-distribution quantile of the predicted position
 // variance: for coverage 0.95 and 3 degrees of freedom, sqrt(7.814728) (the
 // chi-squared 0.95 quantile for 3 degrees of freedom, standard tables, e.g.
-// NIST/SEMATECH e-Handbook of Statistical Methods, 1.3.6.7.4), and the
-// prediction reproduces a straight line exactly once converged.
+// NIST/SEMATECH e-Handbook of Statistical Methods, 1.3.6.7.4). The variance
+// is recomputed here with gonum: F(τ)·P·F(τ)ᵀ plus the process noise of the
+// τ/T sample intervals, summed explicitly. Once converged on a straight line
+// the prediction reproduces it.
 func TestKalmanRadiusAndLine(t *testing.T) {
-	f := newKalman(t, KindKalmanCV, 30, 0.002)
-	var p Path
-	for i := 0; i < 600; i++ {
-		ti := float64(i) / 120
-		f.Update(ti, vec(0.3*ti, -0.2*ti, 1))
-	}
-	h := Horizon{Step: 0.02, Span: 0.48}
-	if !f.Predict(&p, h) || p.Len() != 25 {
-		t.Fatal("no prediction")
-	}
-	tl := 599.0 / 120
-	for k := range p.T {
-		_, v := f.predictAt(p.T[k] - tl)
-		if want := math.Sqrt(7.814728) * math.Sqrt(v); math.Abs(p.R[k]-want) > 1e-6*want {
-			t.Fatalf("radius %d = %g, want %g", k, p.R[k], want)
+	for _, kind := range []string{KindKalmanCV, KindKalmanCA} {
+		f := newKalman(t, kind, 30, 0.002)
+		n := f.m.n
+		const T = 1.0 / 120
+		var p Path
+		for i := 0; i < 600; i++ {
+			ti := float64(i) * T
+			f.Update(ti, vec(0.3*ti, -0.2*ti, 1))
 		}
-		want := vec(0.3*p.T[k], -0.2*p.T[k], 1)
-		if d := r3.Norm(r3.Sub(p.P[k], want)); d > 1e-9 {
-			t.Fatalf("point %d off the line by %g m", k, d)
+		h := Horizon{Step: 3 * T, Span: 72 * T} // 25 points, whole sample intervals
+		if !f.Predict(&p, h) || p.Len() != 25 {
+			t.Fatal("no prediction")
 		}
-		if k > 0 && p.R[k] < p.R[k-1] {
-			t.Fatalf("radius decreases at %d", k)
+		tl := 599 * T
+		Pd := mat.NewSymDense(n, nil)
+		for i := 0; i < n; i++ {
+			for j := 0; j <= i; j++ {
+				Pd.SetSym(i, j, f.P[i][j])
+			}
+		}
+		dense := func(m mat3) *mat.Dense {
+			d := mat.NewDense(n, n, nil)
+			for i := 0; i < n; i++ {
+				for j := 0; j < n; j++ {
+					d.Set(i, j, m[i][j])
+				}
+			}
+			return d
+		}
+		_, Q1 := f.m.transition(T)
+		for k := range p.T {
+			tau := p.T[k] - tl
+			F, _ := f.m.transition(tau)
+			var a, cov mat.Dense
+			a.Mul(dense(F), Pd)
+			cov.Mul(&a, dense(F).T())
+			steps := int(math.Round(tau / T))
+			for j := 0; j < steps; j++ {
+				Fj, _ := f.m.transition(float64(j) * T)
+				var b, c mat.Dense
+				b.Mul(dense(Fj), dense(Q1))
+				c.Mul(&b, dense(Fj).T())
+				cov.Add(&cov, &c)
+			}
+			want := math.Sqrt(7.814728) * math.Sqrt(cov.At(0, 0))
+			if math.Abs(p.R[k]-want) > 1e-6*want {
+				t.Fatalf("%s: radius %d = %g, want %g", kind, k, p.R[k], want)
+			}
+			wantP := vec(0.3*p.T[k], -0.2*p.T[k], 1)
+			if d := r3.Norm(r3.Sub(p.P[k], wantP)); d > 1e-9 {
+				t.Fatalf("%s: point %d off the line by %g m", kind, k, d)
+			}
+			if k > 0 && p.R[k] < p.R[k-1] {
+				t.Fatalf("%s: radius decreases at %d", kind, k)
+			}
 		}
 	}
 }
