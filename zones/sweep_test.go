@@ -125,9 +125,13 @@ func TestSweepAgainstDenseSampling(t *testing.T) {
 	shapes := testShapes()
 	shapes = append(shapes, namedShape{"opaque-obox", opaque{shapes[1].s}}, namedShape{"opaque-capsule", opaque{shapes[4].s}})
 	touches, misses := 0, 0
+	cases := 16
+	if testing.Short() {
+		cases = 4
+	}
 	for _, ns := range shapes {
 		for _, posed := range []bool{false, true} {
-			for i := 0; i < 25; i++ {
+			for i := 0; i < cases; i++ {
 				z := Zone{Name: ns.name, Shape: ns.s, Margin: 0.1 * rng.Float64()}
 				b := ns.s.Bounds()
 				if posed {
@@ -149,7 +153,7 @@ func TestSweepAgainstDenseSampling(t *testing.T) {
 		}
 	}
 	// The random paths must exercise both outcomes.
-	if touches < 100 || misses < 100 {
+	if touches < 5*cases || misses < 5*cases {
 		t.Fatalf("degenerate test paths: %d touches, %d misses", touches, misses)
 	}
 }
@@ -337,7 +341,7 @@ func TestSweepOddInputs(t *testing.T) {
 
 // The non-convex prism's refined lower bound must never exceed the true
 // minimum of f over the piece of segment; compared with dense sampling
-// (2000 samples, so the sampled minimum is within L/4000 of the true one).
+// (1000 samples; the sampled minimum is at or above the true one).
 func TestRefineBoundValid(t *testing.T) {
 	rng := rand.New(rand.NewPCG(61, 62))
 	upr := must(NewPrism(uShape, 0.5, 1.2))
@@ -353,7 +357,7 @@ func TestRefineBoundValid(t *testing.T) {
 			r0, dr, m := 0.03*rng.Float64(), 0.02*rng.Float64(), 0.1*rng.Float64()
 			a := 0.5 * rng.Float64()
 			b := a + (1-a)*rng.Float64()
-			const n = 2000
+			const n = 1000
 			dmin := math.Inf(1)
 			for k := 0; k <= n; k++ {
 				u := a + (b-a)*float64(k)/n
