@@ -1,9 +1,11 @@
 package bus
 
 import (
+	"context"
 	"fmt"
 	"log/slog"
 	"net"
+	"strings"
 
 	mochi "github.com/mochi-mqtt/server/v2"
 	"github.com/mochi-mqtt/server/v2/hooks/auth"
@@ -33,7 +35,9 @@ func StartBroker(addr string, log *slog.Logger) (*Broker, error) {
 		log = slog.New(slog.DiscardHandler)
 	}
 	srv := mochi.New(&mochi.Options{
-		Logger:                 log.With("component", "embedded-broker"),
+		// The broker's own chatter (every client connecting) goes at debug
+		// level; its warnings and errors stay visible.
+		Logger:                 slog.New(quieter{log.Handler()}).With("component", "embedded-broker"),
 		InlineClient:           false,
 		SysTopicResendInterval: 3600,
 	})
@@ -67,3 +71,28 @@ func isLoopbackHost(host string) bool {
 	ip := net.ParseIP(host)
 	return ip != nil && ip.IsLoopback()
 }
+
+// quieter lowers the broker's info messages to debug.
+type quieter struct{ slog.Handler }
+
+func (q quieter) Handle(ctx context.Context, r slog.Record) error {
+	// mochi advises a keep-alive above 5 s for every client; the service
+	// uses 5 s on purpose (a dead connection is noticed sooner).
+	if r.Level == slog.LevelInfo || strings.HasPrefix(r.Message, "client keepalive is below minimum") {
+		r.Level = slog.LevelDebug
+	}
+	if !q.Handler.Enabled(ctx, r.Level) {
+		return nil
+	}
+	return q.Handler.Handle(ctx, r)
+}
+
+func (q quieter) Enabled(ctx context.Context, l slog.Level) bool {
+	if l == slog.LevelInfo {
+		l = slog.LevelDebug
+	}
+	return q.Handler.Enabled(ctx, l)
+}
+
+func (q quieter) WithAttrs(as []slog.Attr) slog.Handler { return quieter{q.Handler.WithAttrs(as)} }
+func (q quieter) WithGroup(n string) slog.Handler       { return quieter{q.Handler.WithGroup(n)} }

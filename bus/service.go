@@ -663,9 +663,14 @@ func (s *Service) publish(a *Advisory) {
 		}
 		s.metrics.scale.Set(a.Scale)
 	}
-	reasons := make([]string, len(a.Reasons))
+	// The first three reasons in words; the payload has them all.
+	var reasons []string
 	for i := range a.Reasons {
-		reasons[i] = a.Reasons[i].Text
+		if i == 3 {
+			reasons = append(reasons, fmt.Sprintf("and %d more", len(a.Reasons)-3))
+			break
+		}
+		reasons = append(reasons, a.Reasons[i].Text)
 	}
 	s.log.Info("advisory", "seq", a.Seq, "level", a.Level, "scale", a.Scale, "t", a.T, "reasons", reasons)
 	if s.o.OnAdvisory != nil {
