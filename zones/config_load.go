@@ -65,6 +65,9 @@ func Parse(data []byte, name string) (*Config, error) {
 	cfg := &Config{Source: name, Digest: hex.EncodeToString(sum[:])}
 	st := newLoadState(name)
 	st.load(data, cfg, cfg, func(c *Checker) { checkCell(c, cfg) })
+	if cfg.Units == "" {
+		cfg.Units = "m"
+	}
 	if len(st.errs) > 0 {
 		return nil, st.configErrors()
 	}
@@ -123,6 +126,7 @@ type loadState struct {
 
 	errs      []rawError
 	bad       map[string]bool // paths with a decoding error
+	badWithin map[string]bool // those paths and all their ancestors
 	expanding map[*yaml.Node]bool
 	visited   int
 	budgetHit bool
@@ -140,20 +144,32 @@ func (st *loadState) addErr(line, col int, path, format string, args ...any) {
 func (st *loadState) decodeErr(n *yaml.Node, path, format string, args ...any) {
 	if st.bad == nil {
 		st.bad = map[string]bool{}
+		st.badWithin = map[string]bool{}
 	}
 	st.bad[path] = true
+	for p := path; ; p = parentPath(p) {
+		st.badWithin[p] = true
+		if p == "" {
+			break
+		}
+	}
 	st.addErr(n.Line, n.Column, path, format, args...)
 }
 
 // related reports whether a decoding error was found at path, at one of its
 // ancestors or inside it.
 func (st *loadState) related(path string) bool {
-	for p := range st.bad {
-		if isPrefixPath(p, path) || isPrefixPath(path, p) {
+	if st.badWithin[path] {
+		return true
+	}
+	for p := path; ; p = parentPath(p) {
+		if st.bad[p] {
 			return true
 		}
+		if p == "" {
+			return false
+		}
 	}
-	return false
 }
 
 // isPrefixPath reports whether p is q or an ancestor of q.
@@ -181,23 +197,27 @@ func joinPath(base, field string) string {
 	}
 }
 
-// parentPath drops the last segment of a path ("a.b[2]" -> "a.b").
+// parentPath drops the last segment of a path ("a.b[2]" -> "a.b",
+// "a.b" -> "a"). The result is always shorter, whatever the keys hold.
 func parentPath(p string) string {
-	if p == "" {
-		return ""
-	}
 	if strings.HasSuffix(p, "]") {
-		if i := strings.LastIndexByte(p, '['); i >= 0 {
+		if i := strings.LastIndexByte(p, '['); i >= 0 && isDigits(p[i+1:len(p)-1]) {
 			return p[:i]
 		}
 	}
-	if i := strings.LastIndexAny(p, ".]"); i >= 0 {
-		if p[i] == ']' {
-			return p[:i+1]
-		}
+	if i := strings.LastIndexByte(p, '.'); i >= 0 {
 		return p[:i]
 	}
 	return ""
+}
+
+func isDigits(s string) bool {
+	for _, r := range s {
+		if r < '0' || r > '9' {
+			return false
+		}
+	}
+	return s != ""
 }
 
 // posOf is the position of the value at path or, when the file does not
@@ -311,7 +331,7 @@ func (st *loadState) syntaxErr(err error, data []byte) {
 	msg := err.Error()
 	if m := yamlLineRE.FindStringSubmatch(msg); m != nil {
 		line, _ := strconv.Atoi(m[1])
-		if at := problemLine(data, msg); at > line {
+		if at := problemLine(data, msg, line); at > line {
 			st.addErr(at, 0, "", "YAML syntax: %s (in the block that starts at line %d)", m[2], line)
 			return
 		}
@@ -323,20 +343,31 @@ func (st *loadState) syntaxErr(err error, data []byte) {
 }
 
 // problemLine refines the line of a YAML syntax error. The parser names the
-// line where the enclosing block starts rather than the offending line, so
-// this finds the shortest run of leading lines that fails with the same
-// message: its last line is where the file stops making sense. It returns 0
-// when that is not found (or the file is too long to search).
-func problemLine(data []byte, msg string) int {
-	if len(data) > 64<<10 {
-		return 0
+// line where the enclosing block starts (from) rather than the offending
+// line, so this finds the shortest run of leading lines, ending at or after
+// from, that fails with the same message: its last line is where the file
+// stops making sense. It returns 0 when that is not found, or when finding
+// it would mean parsing more than a few megabytes of prefixes.
+func problemLine(data []byte, msg string, from int) int {
+	const budget = 4 << 20
+	spent := 0
+	end, line := 0, 1
+	for ; line < from; line++ { // skip to the end of line from-1
+		nl := bytes.IndexByte(data[end:], '\n')
+		if nl < 0 {
+			return 0
+		}
+		end += nl + 1
 	}
-	for end, line := 0, 1; end < len(data); line++ {
+	for ; end < len(data); line++ {
 		nl := bytes.IndexByte(data[end:], '\n')
 		if nl < 0 {
 			return 0 // the whole file is what failed
 		}
 		end += nl + 1
+		if spent += end; spent > budget {
+			return 0
+		}
 		var n yaml.Node
 		if err := parsePrefix(data[:end], &n); err != nil && err.Error() == msg {
 			return line
@@ -391,26 +422,25 @@ var (
 )
 
 func (st *loadState) decodeRoot(root *yaml.Node, v reflect.Value) {
-	// The unit must be known before any length is decoded.
-	if r := resolveAlias(root); r != nil && r.Kind == yaml.MappingNode {
-		for i := 0; i+1 < len(r.Content); i += 2 {
-			k, v := resolveAlias(r.Content[i]), resolveAlias(r.Content[i+1])
-			if k == nil || v == nil || k.Kind != yaml.ScalarNode || k.Value != "units" || v.Kind != yaml.ScalarNode {
-				continue
-			}
-			switch v.Value {
-			case "", "m", "~", "null":
-				st.scale = 1
-			case "mm":
-				st.scale = 0.001
-			default:
-				st.decodeErr(v, "units", "unknown unit %q (want m or mm)", v.Value)
-			}
-		}
-	}
-	if r := resolveAlias(root); r == nil || r.Kind != yaml.MappingNode {
+	r := resolveAlias(root)
+	if r == nil || r.Kind != yaml.MappingNode {
 		st.decodeErr(root, "", "the file must be a mapping of keys (cell, units, zones, ...), got %s", describeNode(root))
 		return
+	}
+	// The unit must be known before any length is decoded.
+	for _, p := range st.mappingPairs(r, "") {
+		u := resolveAlias(p.val)
+		if p.key.Value != "units" || u == nil || u.Kind != yaml.ScalarNode || u.ShortTag() == "!!null" {
+			continue
+		}
+		switch u.Value {
+		case "m":
+		case "mm":
+			st.scale = 0.001
+		default:
+			st.decodeErr(u, "units", "unknown unit %q (want m or mm)", u.Value)
+		}
+		break
 	}
 	st.decode(root, v, "")
 }

@@ -616,6 +616,8 @@ func TestPathHelpers(t *testing.T) {
 		{"zones[2]", "zones"},
 		{"zones", ""},
 		{"a.b[1][2]", "a.b[1]"},
+		{"x]", ""},
+		{"zones[0].x]", "zones[0]"},
 	} {
 		if got := parentPath(c.in); got != c.parent {
 			t.Errorf("parentPath(%q) = %q, want %q", c.in, got, c.parent)
@@ -635,5 +637,23 @@ func TestSortErrors(t *testing.T) {
 	}
 	if !sort.StringsAreSorted(msgs) || len(msgs) != 3 {
 		t.Errorf("sorted = %v", msgs)
+	}
+}
+
+func TestUnitsDefault(t *testing.T) {
+	cfg, err := Parse([]byte("cell: c\nzones:\n  - name: z\n    sphere: {center: [0, 0, 1], radius: 200}\n"), "u.yaml")
+	if err != nil {
+		t.Fatal(err)
+	}
+	if cfg.Units != "m" || cfg.Zones[0].Sphere.Radius != 200 {
+		t.Errorf("units %q radius %g: want metres, unscaled", cfg.Units, float64(cfg.Zones[0].Sphere.Radius))
+	}
+	// The unit applies to the whole file, wherever the key is.
+	cfg, err = Parse([]byte("zones:\n  - name: z\n    sphere: {center: [0, 0, 1000], radius: 200}\ncell: c\nunits: mm\n"), "u.yaml")
+	if err != nil {
+		t.Fatal(err)
+	}
+	if r := cfg.Zones[0].Sphere.Radius; math.Abs(float64(r)-0.2) > 1e-15 {
+		t.Errorf("radius %g m, want 0.2", float64(r))
 	}
 }
