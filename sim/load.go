@@ -784,6 +784,7 @@ func (d *decoder) step(n *yaml.Node, path string, sc *Scenario, op *operator) *s
 	st.kind = prim[0]
 	v := primNode[st.kind]
 	p := path + "." + st.kind
+	var spread r3.Vec // applied once the targets are read, whatever the key order
 	switch st.kind {
 	case KindPause:
 		st.pause = d.durRange(v, p, 0, MaxDuration)
@@ -792,7 +793,7 @@ func (d *decoder) step(n *yaml.Node, path string, sc *Scenario, op *operator) *s
 		var haveTo bool
 		d.fields(v, p, map[string]func(*yaml.Node, string){
 			"to":       func(v *yaml.Node, p string) { st.to, _ = d.target(v, p, sc, false); haveTo = true },
-			"spread":   func(v *yaml.Node, p string) { st.to.spread = d.spread(v, p) },
+			"spread":   func(v *yaml.Node, p string) { spread = d.spread(v, p) },
 			"standoff": func(v *yaml.Node, p string) { st.standoff = d.length(v, p, 0, 100) },
 			"speed": func(v *yaml.Node, p string) {
 				st.speed = d.rangeOf(v, p, func(n *yaml.Node, p string) (float64, bool) {
@@ -805,6 +806,7 @@ func (d *decoder) step(n *yaml.Node, path string, sc *Scenario, op *operator) *s
 		if !haveTo {
 			d.errorf(v, p+".to", "missing: where the operator walks to (a station or [x, y])")
 		}
+		st.to.spread = spread
 	case KindReach, KindSweep, KindPickPlace:
 		var haveHand, haveTo, haveFrom, haveCenter, haveAngle, haveDur, haveWidth bool
 		st.cycles = 1
@@ -838,7 +840,7 @@ func (d *decoder) step(n *yaml.Node, path string, sc *Scenario, op *operator) *s
 		switch st.kind {
 		case KindReach, KindPickPlace:
 			h["to"] = func(v *yaml.Node, p string) { st.to, _ = d.target(v, p, sc, true); haveTo = true }
-			h["spread"] = func(v *yaml.Node, p string) { st.to.spread = d.spread(v, p) }
+			h["spread"] = func(v *yaml.Node, p string) { spread = d.spread(v, p) }
 			h["lift"] = func(v *yaml.Node, p string) { st.lift = d.length(v, p, -2, 2) }
 		}
 		switch st.kind {
@@ -880,6 +882,7 @@ func (d *decoder) step(n *yaml.Node, path string, sc *Scenario, op *operator) *s
 		if st.kind == KindSweep && !haveAngle {
 			d.errorf(v, p+".angle", "missing: the angle swept, degrees (positive counter-clockwise)")
 		}
+		st.to.spread, st.from.spread = spread, spread // pick_place: both ends
 		if haveDur && haveWidth {
 			d.errorf(v, p+".width", "give duration or width (Fitts' law), not both")
 		}

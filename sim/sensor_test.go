@@ -232,9 +232,9 @@ operators:
     heading: 90
     timeline:
       - at: [0.5s, 1.5s]
-        reach: {hand: right, to: infeed, spread: [0.1, 0.05, 0], duration: [400ms, 800ms]}
+        reach: {hand: right, spread: [0.1, 0.05, 0], to: infeed, duration: [400ms, 800ms]}   # spread before to
 `)
-	seen := map[float64]bool{}
+	seen, spreadX := map[float64]bool{}, map[float64]bool{}
 	for i := range 50 {
 		a := sc.RunN(9, i).Actions()[0]
 		if a.Start < 0.5 || a.Start > 1.5 {
@@ -247,12 +247,13 @@ operators:
 			t.Errorf("run %d: target %v outside the spread", i, a.To)
 		}
 		seen[a.Start] = true
+		spreadX[a.To.X] = true
 		if b := sc.RunN(9, i).Actions()[0]; b != a {
 			t.Errorf("run %d drawn twice: %+v then %+v", i, a, b)
 		}
 	}
-	if len(seen) < 50 {
-		t.Errorf("50 runs gave only %d distinct start times", len(seen))
+	if len(seen) < 50 || len(spreadX) < 50 {
+		t.Errorf("50 runs gave only %d distinct start times and %d distinct targets", len(seen), len(spreadX))
 	}
 }
 

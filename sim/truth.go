@@ -72,12 +72,22 @@ const (
 	TruthTol  = 1e-9
 )
 
+// Hysteresis returns the distance by which a hand must leave a zone (or the
+// near distance) for an entry (or a near pass) to end: 1 mm, or five times
+// the tremor's RMS when that is more, so that a hand resting at a surface
+// and trembling across it counts once. The end time is still the last
+// crossing of the surface.
+func (r *Run) Hysteresis() float64 { return math.Max(0.001, 5*r.sc.Tremor.RMS) }
+
 // Truth scans every track of the run against every zone over [0, Duration]
 // and lists the entries into the zones' shapes and the near passes (closer
 // than near metres without entering), ordered by track, then zone, then
-// time. It does not disturb the measurement stream.
+// time. An entry or a near pass ends only once the hand is Hysteresis()
+// beyond the surface or the near distance. Truth does not disturb the
+// measurement stream.
 func (r *Run) Truth(zs []Zone, near float64) Truth {
 	var out Truth
+	hyst := r.Hysteresis()
 	n := int(math.Ceil(r.duration/TruthStep)) + 1
 	out.Closest = make([]Approach, len(zs))
 	for i, z := range zs {
@@ -86,28 +96,31 @@ func (r *Run) Truth(zs []Zone, near float64) Truth {
 	for _, tp := range r.plans {
 		for zi, z := range zs {
 			dist := func(t float64) float64 { return z.Volume.SignedDistance(tp.position(t, nil)) }
+			outside := func(t float64) float64 { return -dist(t) }
+			nearIn := func(t float64) float64 { return dist(t) - near }
+			nearOut := func(t float64) float64 { return near - dist(t) }
 			var cursor int
 			at := func(k int) (float64, float64) {
 				t := math.Min(float64(k)*TruthStep, r.duration)
 				return t, z.Volume.SignedDistance(tp.position(t, &cursor))
 			}
 			var (
-				inside  bool
-				entry   Entry
-				nearOn  bool
-				np      NearPass
-				entered bool // the hand entered during the current near interval
-				bestK   int
+				inside, exiting bool // in the zone; out of it but within the hysteresis
+				entry           Entry
+				nearOn, leaving bool // within near; beyond it but within the hysteresis
+				np              NearPass
+				entered         bool // the hand entered during the current near interval
+				bestK           int
 			)
 			t0, d0 := at(0)
 			prevT := t0
 			minK, minD := 0, d0
 			if d0 <= 0 {
-				inside = true
+				inside, entered = true, true
 				entry = Entry{Track: tp.name, Zone: z.Name, Enter: 0, Depth: -d0}
 			}
 			if d0 < near {
-				nearOn, entered = true, inside
+				nearOn = true
 				np = NearPass{Track: tp.name, Zone: z.Name, Start: 0, T: 0, Dist: d0}
 			}
 			for k := 1; k < n; k++ {
@@ -123,28 +136,42 @@ func (r *Run) Truth(zs []Zone, near float64) Truth {
 				case !inside && d <= 0:
 					inside, entered = true, true
 					entry = Entry{Track: tp.name, Zone: z.Name, Enter: bisect(dist, prevT, t), Depth: -d}
-				case inside && d > 0:
-					inside = false
-					entry.Exit = bisect(func(t float64) float64 { return -dist(t) }, prevT, t)
-					out.Entries = append(out.Entries, entry)
-				case inside:
+				case inside && d <= 0:
+					exiting = false
 					entry.Depth = math.Max(entry.Depth, -d)
+				case inside:
+					if !exiting {
+						exiting = true
+						entry.Exit = bisect(outside, prevT, t)
+					}
+					if d > hyst {
+						inside, exiting = false, false
+						out.Entries = append(out.Entries, entry)
+					}
 				}
 				// near passes
 				switch {
 				case !nearOn && d < near:
 					nearOn, entered = true, inside
-					np = NearPass{Track: tp.name, Zone: z.Name, Start: bisect(func(t float64) float64 { return dist(t) - near }, prevT, t), T: t, Dist: d}
+					np = NearPass{Track: tp.name, Zone: z.Name, Start: bisect(nearIn, prevT, t), T: t, Dist: d}
 					bestK = k
-				case nearOn && d >= near:
-					nearOn = false
-					np.End = bisect(func(t float64) float64 { return near - dist(t) }, prevT, t)
-					if !entered {
-						np.T, np.Dist = refineMin(dist, bestK, r.duration)
-						out.NearPasses = append(out.NearPasses, np)
+				case nearOn && d < near:
+					leaving = false
+					if d < np.Dist {
+						np.T, np.Dist, bestK = t, d, k
 					}
-				case nearOn && d < np.Dist:
-					np.T, np.Dist, bestK = t, d, k
+				case nearOn:
+					if !leaving {
+						leaving = true
+						np.End = bisect(nearOut, prevT, t)
+					}
+					if d >= near+hyst {
+						nearOn, leaving = false, false
+						if !entered {
+							np.T, np.Dist = refineMin(dist, bestK, r.duration)
+							out.NearPasses = append(out.NearPasses, np)
+						}
+					}
 				}
 				prevT = t
 			}
@@ -153,11 +180,15 @@ func (r *Run) Truth(zs []Zone, near float64) Truth {
 				c.T, c.Dist = refineMin(dist, minK, r.duration)
 			}
 			if inside {
-				entry.Exit, entry.Open = r.duration, true
+				if !exiting {
+					entry.Exit, entry.Open = r.duration, true
+				}
 				out.Entries = append(out.Entries, entry)
 			}
 			if nearOn && !entered {
-				np.End = r.duration
+				if !leaving {
+					np.End = r.duration
+				}
 				np.T, np.Dist = refineMin(dist, bestK, r.duration)
 				out.NearPasses = append(out.NearPasses, np)
 			}

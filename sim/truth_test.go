@@ -3,6 +3,10 @@ package sim
 import (
 	"math"
 	"testing"
+
+	"gonum.org/v1/gonum/spatial/r3"
+
+	"forereach/zones"
 )
 
 // The planted incidents of testdata/scenarios/planted-incidents.yaml, as
@@ -121,5 +125,49 @@ func TestTruthLeavesStream(t *testing.T) {
 		if !ok1 {
 			break
 		}
+	}
+}
+
+// A hand resting on a zone's surface, trembling across it, counts as one
+// entry; one resting at the near distance as one near pass.
+func TestTruthHysteresis(t *testing.T) {
+	sc := load(t, `
+duration: 6s
+tremor: {rms: 0.0002}
+operators:
+  - name: op1
+    at: [0, 0]
+    heading: 0
+    hands:
+      - {name: a, rest: [0.5, 0, 1.0]}
+      - {name: b, rest: [0.5, 2, 1.0]}
+    timeline:
+      - reach: {hand: a, to: [1.0, 0, 1.0], duration: 1s}   # onto the face x = 1
+      - parallel: true
+        reach: {hand: b, to: [0.9, 2, 1.0], duration: 1s}   # 0.1 m from it
+`)
+	box, err := zones.NewBox(r3.Vec{X: 1, Y: -1, Z: 0}, r3.Vec{X: 2, Y: 3, Z: 2})
+	if err != nil {
+		t.Fatal(err)
+	}
+	r := sc.Run(2)
+	// The tremor does take hand a across the face many times.
+	crossings, prev := 0, false
+	for k := 1000; k <= 6000; k++ {
+		p, _ := r.Position("op1/a", float64(k)/1000)
+		if in := p.X >= 1; in != prev {
+			crossings++
+			prev = in
+		}
+	}
+	if crossings < 10 {
+		t.Fatalf("only %d crossings of the face by the trembling hand: the test does not test", crossings)
+	}
+	tr := r.Truth([]Zone{{Name: "box", Volume: box}}, 0.1)
+	if len(tr.Entries) != 1 || tr.Entries[0].Track != "op1/a" {
+		t.Errorf("entries %+v, want one of op1/a", tr.Entries)
+	}
+	if len(tr.NearPasses) != 1 || tr.NearPasses[0].Track != "op1/b" {
+		t.Errorf("near passes %+v, want one of op1/b", tr.NearPasses)
 	}
 }
