@@ -362,7 +362,7 @@ func (r *run) accepted(s forecast.Sample) {
 		for i := range tr.pairs {
 			tr.pairs[i].entryIdx = -1
 		}
-		tr.ring.init(r.nz)
+		tr.ring.init(r.nz, ringSpan)
 		tr.path.step = pathStep
 		r.tracks = append(r.tracks, tr)
 		r.byID[s.Track] = tr
@@ -425,7 +425,6 @@ func (r *run) requests() {
 	if r.rv.opt.AsRecorded || r.eng.Advisory().Level == policy.LevelClear {
 		return
 	}
-	now := r.eng.Now()
 	r.state = r.eng.State(r.state[:0])
 	for i := range r.state {
 		tz := &r.state[i]
@@ -440,7 +439,7 @@ func (r *run) requests() {
 			continue
 		}
 		z := i % r.nz
-		if tr.pairs[z].ep.request(now, r.epRelease, r.rv.window, r.judge(tr, z)) {
+		if tr.pairs[z].ep.request(tz.T, r.epRelease, r.rv.window, r.judge(tr, z)) {
 			r.rv.res.Totals.Warnings++
 			r.rv.warnings[z]++
 			tr.pairs[z].ep.cur.minSep = tr.seps[z]

@@ -13,6 +13,7 @@ import (
 // separations from every zone, over the last ringSpan seconds. It grows
 // only until it holds ringSpan of samples at the track's rate.
 type ring struct {
+	span float64 // seconds kept
 	nz   int
 	t    []float64
 	p    []r3.Vec
@@ -21,8 +22,8 @@ type ring struct {
 	n    int
 }
 
-func (g *ring) init(nz int) {
-	g.nz = nz
+func (g *ring) init(nz int, span float64) {
+	g.nz, g.span = nz, span
 	g.t = make([]float64, 256)
 	g.p = make([]r3.Vec, 256)
 	g.s = make([]float64, 256*nz)
@@ -31,7 +32,7 @@ func (g *ring) init(nz int) {
 func (g *ring) idx(i int) int { return (g.head + i) % len(g.t) }
 
 func (g *ring) push(t float64, p r3.Vec, seps []float64) {
-	for g.n > 0 && t-g.t[g.head] > ringSpan {
+	for g.n > 0 && t-g.t[g.head] > g.span {
 		g.head = (g.head + 1) % len(g.t)
 		g.n--
 	}
@@ -67,6 +68,14 @@ func (g *ring) at(t float64) (r3.Vec, bool) {
 		}
 	}
 	return r3.Vec{}, false
+}
+
+// len is the number of samples held; get returns sample i (0 oldest).
+func (g *ring) len() int { return g.n }
+
+func (g *ring) get(i int) (float64, []float64) {
+	j := g.idx(i)
+	return g.t[j], g.s[j*g.nz : (j+1)*g.nz]
 }
 
 // each calls fn for the samples with from <= t <= to, oldest first.
