@@ -68,6 +68,16 @@ func NewPrism(footprint []r2.Vec, zmin, zmax float64) (*Prism, error) {
 	if a == 0 {
 		return nil, &ShapeError{Field: "footprint", Msg: "zero area"}
 	}
+	p := buildPrism(pts, zmin, zmax, a)
+	if !p.isConvex {
+		p.pieces = triangulatePrism(pts, zmin, zmax, a)
+	}
+	return p, nil
+}
+
+// buildPrism makes a prism of a checked counter-clockwise footprint of area
+// a > 0.
+func buildPrism(pts []r2.Vec, zmin, zmax, a float64) *Prism {
 	n := len(pts)
 	p := &Prism{pts: pts, zmin: zmin, zmax: zmax, area: a, isConvex: true,
 		ex: make([]float64, n), ey: make([]float64, n), inv: make([]float64, n)}
@@ -86,10 +96,7 @@ func NewPrism(footprint []r2.Vec, zmin, zmax float64) (*Prism, error) {
 		}
 	}
 	p.bounds = AABB{Min: r3.Vec{X: lo.X, Y: lo.Y, Z: zmin}, Max: r3.Vec{X: hi.X, Y: hi.Y, Z: zmax}}
-	if !p.isConvex {
-		p.pieces = triangulatePrism(pts, zmin, zmax, a)
-	}
-	return p, nil
+	return p
 }
 
 // shoelace returns the signed area of the polygon (positive when
@@ -581,10 +588,10 @@ func triangulatePrism(pts []r2.Vec, zmin, zmax, area float64) []*Prism {
 	var pieces []*Prism
 	var sum float64
 	for _, tri := range earClip(pts) {
-		piece, err := NewPrism(tri[:], zmin, zmax)
-		if err != nil {
-			return nil
-		}
+		// earClip only returns counter-clockwise triangles of distinct
+		// corners; a sliver is still a valid (convex) piece.
+		piece := buildPrism(tri[:], zmin, zmax, shoelace(tri[:]))
+		piece.isConvex = true
 		pieces = append(pieces, piece)
 		sum += piece.area
 	}

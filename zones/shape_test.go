@@ -370,3 +370,36 @@ func TestPrismTriangulation(t *testing.T) {
 		t.Error("no triangulation for a footprint with a collinear corner")
 	}
 }
+
+// FuzzNewPrism: any footprint either gets a *ShapeError or builds a prism
+// whose triangulation covers it (which fails for a polygon that is not
+// simple) and whose signed distance agrees with containment; nothing
+// panics.
+func FuzzNewPrism(f *testing.F) {
+	f.Add(uint8(6), 0.0, 0.0, 2.0, 0.0, 2.0, 2.0, 1.0, 2.0, 1.0, 1.0, 0.0, 1.0, 0.0, 0.0)
+	f.Add(uint8(4), 0.0, 0.0, 1.0, 1.0, 1.0, 0.0, 0.0, 1.0, 0.0, 0.0, 0.0, 0.0, 0.0, 0.0)
+	f.Add(uint8(7), 0.0, 0.0, 3.0, 0.0, 3.0, 2.0, 2.0, 2.0, 2.0, 1.0, 1.0, 1.0, 1.0, 2.0)
+	f.Fuzz(func(t *testing.T, n uint8, x0, y0, x1, y1, x2, y2, x3, y3, x4, y4, x5, y5, x6, y6 float64) {
+		all := []r2.Vec{{X: x0, Y: y0}, {X: x1, Y: y1}, {X: x2, Y: y2}, {X: x3, Y: y3}, {X: x4, Y: y4}, {X: x5, Y: y5}, {X: x6, Y: y6}}
+		fp := all[:int(n)%(len(all)+1)]
+		p, err := NewPrism(fp, 0, 1)
+		if err != nil {
+			var se *ShapeError
+			if !errors.As(err, &se) || se.Msg == "" || !strings.HasPrefix(se.Field, "footprint") {
+				t.Fatalf("error %v is not a footprint *ShapeError", err)
+			}
+			return
+		}
+		if p.area <= 0 || (!p.isConvex && p.pieces == nil) {
+			t.Fatalf("accepted footprint %v: area %g, convex %v, %d pieces", fp, p.area, p.isConvex, len(p.pieces))
+		}
+		b := p.Bounds()
+		for i := 0; i < 50; i++ {
+			u := fibonacciDir(i, 50)
+			q := r3.Vec{X: b.Min.X + (b.Max.X-b.Min.X)*(u.X+1)/2, Y: b.Min.Y + (b.Max.Y-b.Min.Y)*(u.Y+1)/2, Z: (u.Z + 1) / 2}
+			if d := p.SignedDistance(q); math.IsNaN(d) || (math.Abs(d) > 1e-9 && (d < 0) != p.Contains(q)) {
+				t.Fatalf("sd %g at %v, contains %v", d, q, p.Contains(q))
+			}
+		}
+	})
+}
