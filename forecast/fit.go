@@ -220,15 +220,26 @@ func Fit(files []FitFile, opt FitOptions) (*FitResult, error) {
 	if err != nil {
 		return nil, err
 	}
+	// The radius of the model that leaves g out is calibrated on residuals
+	// of the other groups j that are out of fold for j too: gains fitted
+	// without j and g (ex2[j][g]). With only two groups nothing is left, and
+	// the fold's radius is calibrated on its own training residuals instead
+	// (ex1[g], fitted on j).
 	ex1 := make([][][NumFeatures]float64, G)   // without group j
 	ex2 := make([][][][NumFeatures]float64, G) // without groups j and g
 	for j := 0; j < G; j++ {
 		if ex1[j], err = solve(j); err != nil {
 			return nil, err
 		}
+	}
+	for j := 0; j < G; j++ {
 		ex2[j] = make([][][NumFeatures]float64, G)
 		for g := 0; g < G; g++ {
-			if g != j {
+			switch {
+			case g == j:
+			case G == 2:
+				ex2[j][g] = ex1[g]
+			default:
 				if ex2[j][g], err = solve(j, g); err != nil {
 					return nil, err
 				}
