@@ -2,16 +2,24 @@ package zones
 
 import "time"
 
-// Config is a cell configuration file after loading: every length is in
-// metres, every speed in metres per second, whatever units the file used.
+// Config is a cell configuration file after loading (Load, Parse): every
+// length is in metres, every speed in metres per second, whatever units the
+// file used.
 //
 // The YAML layout mirrors these structs (yaml tags). Decoding is strict:
-// unknown keys are errors. Sections other than cell, units and zones are
-// filled by the components that use them (bus, forecast, policy, robot);
-// each lives in its own file, config_<section>.go.
+// unknown keys are errors. Sections other than cell, units, zones and
+// stations are filled by the components that use them (bus, forecast,
+// policy, robot); each lives in its own file, config_<section>.go, and may
+// fill in defaults and check itself through the Defaulter, UnitScaler and
+// Checkable interfaces (see Parse for the order).
 type Config struct {
-	Cell     string          `yaml:"cell"`
-	Units    string          `yaml:"units"` // "m" (default) or "mm"
+	// Cell names the cell; it goes into MQTT topics, so it has no '/', '+',
+	// '#', spaces or control characters. Required.
+	Cell string `yaml:"cell"`
+	// Units is the length unit of the file: "m" or "mm". Lengths, points
+	// and speeds (per second) are converted to metres on load; durations
+	// and angles are not. Default "m" (set on load).
+	Units    string          `yaml:"units"`
 	Zones    []ZoneConfig    `yaml:"zones"`
 	Stations []StationConfig `yaml:"stations"` // named work positions (simulator targets)
 	Bus      BusConfig       `yaml:"bus"`
@@ -19,7 +27,8 @@ type Config struct {
 	Policy   PolicyConfig    `yaml:"policy"`
 	Robot    RobotConfig     `yaml:"robot"`
 
-	// Source is the file the configuration was read from ("" for a reader).
+	// Source is the file name given to Load or Parse (relative paths in the
+	// sections are relative to its directory).
 	Source string `yaml:"-"`
 	// Digest is the hex SHA-256 of the file's bytes, for status messages.
 	Digest string `yaml:"-"`
@@ -43,6 +52,8 @@ func (d Duration) Seconds() float64 { return time.Duration(d).Seconds() }
 // ZoneConfig is one hazard zone as written in the file. Exactly one shape
 // section is set.
 type ZoneConfig struct {
+	// Name identifies the zone in advisories and reports: required,
+	// unique in the cell.
 	Name   string `yaml:"name"`
 	Margin Length `yaml:"margin"` // advisory margin around the shape, >= 0
 	// Frame attaches the zone to a robot frame (see RobotConfig.Frames); the
