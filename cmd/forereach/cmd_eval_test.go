@@ -12,6 +12,7 @@ import (
 	"testing"
 
 	"forereach/forecast"
+	"forereach/zones"
 )
 
 // writeLineCSV writes a recording of two tracks moving at constant velocity
@@ -167,5 +168,28 @@ func TestFitThenEval(t *testing.T) {
 	}
 	if code, _, errs := runForecastCmd("fit", "--out", gains, a); code != 1 || !strings.Contains(errs, "two groups") {
 		t.Errorf("one group: exit %d %s", code, errs)
+	}
+}
+
+// The cell configuration's forecast defaults are package forecast's.
+func TestForecastConfigDefaultsAgree(t *testing.T) {
+	for _, c := range []struct {
+		name      string
+		cfg, want float64
+	}{
+		{"step", zones.DefaultForecastStep.Seconds(), forecast.DefaultStep},
+		{"horizon", zones.DefaultForecastHorizon.Seconds(), forecast.DefaultHorizon},
+		{"gap_reset", zones.DefaultForecastGapReset.Seconds(), forecast.DefaultGapReset},
+		{"measurement_noise", zones.DefaultMeasurementNoise, forecast.DefaultMeasurementNoise},
+		{"process_noise (cv)", zones.DefaultProcessNoiseCV, forecast.DefaultProcessNoiseCV},
+		{"process_noise (ca)", zones.DefaultProcessNoiseCA, forecast.DefaultProcessNoiseCA},
+		{"coverage", zones.DefaultForecastCoverage, forecast.DefaultCoverage},
+	} {
+		if c.cfg != c.want {
+			t.Errorf("%s: cell configuration default %g, forecast default %g", c.name, c.cfg, c.want)
+		}
+	}
+	if err := (forecast.Settings{Kind: zones.DefaultForecastModel}).Check(); err != nil {
+		t.Errorf("default model: %v", err)
 	}
 }
