@@ -109,7 +109,7 @@ func Layout(w io.Writer, cfg *zones.Config, opt LayoutOptions) error {
 
 	capStyle := textStyle(8, color.Gray{Y: 60})
 	capStyle.XAlign = draw.XLeft
-	caption := layoutCaption(cfg, plots, opt)
+	caption := wrapText(layoutCaption(cfg, plots, opt), capStyle, width-10*vg.Millimeter)
 	capH := vg.Length(len(caption))*capStyle.Font.Size*1.35 + 6*vg.Millimeter
 	titleStyle := textStyle(12, color.Black)
 	titleStyle.Font.Weight = xfont.WeightBold
@@ -117,7 +117,7 @@ func Layout(w io.Writer, cfg *zones.Config, opt LayoutOptions) error {
 	if title == "" {
 		title = "cell " + cfg.Cell
 	}
-	titleH := titleStyle.Font.Size * 2
+	titleH := titleStyle.Font.Size * 2.6
 
 	panels := func(h vg.Length) []draw.Canvas {
 		c := draw.NewCanvas(nullCanvas{}, width, h)
@@ -617,6 +617,32 @@ func (nullCanvas) Fill(vg.Path)                           {}
 func (nullCanvas) FillString(font.Face, vg.Point, string) {}
 func (nullCanvas) DrawImage(vg.Rectangle, image.Image)    {}
 
+// wrapText breaks lines at spaces so that each fits in width (with room
+// for a wider substitute font).
+func wrapText(lines []string, sty text.Style, width vg.Length) []string {
+	var out []string
+	for _, l := range lines {
+		words := strings.Fields(l)
+		cur := ""
+		for _, w := range words {
+			try := w
+			if cur != "" {
+				try = cur + " " + w
+			}
+			if cur != "" && sty.Width(try)*1.15 > width {
+				out = append(out, cur)
+				cur = w
+				continue
+			}
+			cur = try
+		}
+		if cur != "" {
+			out = append(out, cur)
+		}
+	}
+	return out
+}
+
 // layoutCaption is the text under the views.
 func layoutCaption(cfg *zones.Config, plots []*plot.Plot, opt LayoutOptions) []string {
 	step := 0.0
@@ -625,8 +651,22 @@ func layoutCaption(cfg *zones.Config, plots []*plot.Plot, opt LayoutOptions) []s
 			step = g.step
 		}
 	}
+	same := "along both axes"
+	elevation := false
+	for _, p := range plots {
+		if p.Title.Text == Elevation.String() {
+			elevation = true
+		}
+	}
+	if len(plots) > 1 {
+		same = "in every view and along both axes"
+	}
 	lines := []string{
-		fmt.Sprintf("Tinted with solid outline: zone shape. Pale with dashed outline: the shape grown by the zone's margin. Grid %s m; 1 m is the same length in every view.", strconv.FormatFloat(step, 'f', -1, 64)),
+		fmt.Sprintf("Tinted with solid outline: zone shape. Pale with dashed outline: the shape grown by the zone's margin. Grid %s m; 1 m is the same length %s.", strconv.FormatFloat(step, 'f', -1, 64), same),
+	}
+	side := ""
+	if elevation {
+		side = " Elevation seen from −y."
 	}
 	frames := map[string]bool{}
 	for _, z := range cfg.Zones {
@@ -644,9 +684,9 @@ func layoutCaption(cfg *zones.Config, plots []*plot.Plot, opt LayoutOptions) []s
 			names = append(names, fmt.Sprintf("%q (%s)", f, how))
 		}
 		sort.Strings(names)
-		lines = append(lines, "Vermilion: zones that move with robot frames "+strings.Join(names, ", ")+". Grey diamonds: stations. Elevation seen from −y.")
+		lines = append(lines, "Vermilion: zones that move with robot frames "+strings.Join(names, ", ")+". Grey diamonds: stations."+side)
 	} else {
-		lines = append(lines, "Grey diamonds: stations. Elevation seen from −y.")
+		lines = append(lines, "Grey diamonds: stations."+side)
 	}
 	src := cfg.Source
 	if src != "" {

@@ -57,7 +57,9 @@ func (l *labelLayer) Plot(c draw.Canvas, p *plot.Plot) {
 	for _, i := range order {
 		it := &l.items[i]
 		anchor := vg.Point{X: trX(it.at.X), Y: trY(it.at.Y)}
-		w := sty.Width(it.text) + 2*pad
+		// Room for a viewer that lacks the font and substitutes a wider
+		// one (SVG text is rendered with the viewer's fonts).
+		w := sty.Width(it.text)*1.15 + 2*pad
 		h := sty.Height(it.text) + 2*pad
 		box := func(ctr vg.Point) vg.Rectangle {
 			r := vg.Rectangle{Min: vg.Point{X: ctr.X - w/2, Y: ctr.Y - h/2}, Max: vg.Point{X: ctr.X + w/2, Y: ctr.Y + h/2}}

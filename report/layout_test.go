@@ -205,10 +205,10 @@ func ringArea(rings [][]r2.Vec) float64 {
 
 // Areas of projected outlines against closed forms. Round parts are
 // inscribed polygons of arcSteps sides per turn, so their areas fall short
-// of the disc's by at most the factor sin(2π/n)·n/(2π) ≈ 1 − 2.5e-5
-// (n = 512); tolerances below allow for that.
+// of the disc's by at most the factor sin(2π/n)·n/(2π) ≈ 1 − 1.0e-4
+// (n = 256); tolerances below allow for that.
 func TestOutlineAreas(t *testing.T) {
-	const arcRel = 3e-5
+	const arcRel = 1.1e-4
 	pt := func(x, y, z float64) zones.Point {
 		return zones.Point{zones.Length(x), zones.Length(y), zones.Length(z)}
 	}
