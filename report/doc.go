@@ -1,5 +1,3 @@
-//go:build report
-
 // Package report draws forereach's figures and reports: the cell layout
 // (plan and side elevation of the zones with their margins), and the
 // figures of the review, margin and evaluation reports built on it. It

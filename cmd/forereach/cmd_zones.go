@@ -46,9 +46,6 @@ func init() {
 	register(zonesCmd)
 }
 
-// zonesDraw is the draw subcommand (cmd_zones_draw.go).
-var zonesDraw func(args []string, stdout, stderr io.Writer) int
-
 func runZones(args []string, stdout, stderr io.Writer) int {
 	if len(args) == 0 {
 		fmt.Fprintln(stderr, "forereach zones: want a subcommand: check or draw")
@@ -60,10 +57,6 @@ func runZones(args []string, stdout, stderr io.Writer) int {
 	case "check":
 		return zonesCheck(args[1:], stdout, stderr)
 	case "draw":
-		if zonesDraw == nil {
-			fmt.Fprintln(stderr, "forereach zones draw: not in this build (the figure code is built with -tags report)")
-			return 1
-		}
 		return zonesDraw(args[1:], stdout, stderr)
 	case "-h", "-help", "--help", "help":
 		printCommandHelp(stdout, zonesCmd)

@@ -1,5 +1,3 @@
-//go:build report
-
 package main
 
 import (
@@ -13,9 +11,8 @@ import (
 	"forereach/report"
 )
 
-func init() { zonesDraw = zonesDrawRun }
-
-func zonesDrawRun(args []string, stdout, stderr io.Writer) int {
+// zonesDraw is the draw subcommand of zones (see cmd_zones.go).
+func zonesDraw(args []string, stdout, stderr io.Writer) int {
 	fs := newFlagSet(zonesCmd, stderr)
 	out := fs.String("o", "", "output SVG file (\"-\" for standard output)")
 	grid := fs.Float64("grid", 0, "grid spacing in metres (0: chosen from the cell size)")
