@@ -7,7 +7,9 @@ import (
 	"fmt"
 	"image/color"
 	"io"
+	"math"
 	"sort"
+	"strconv"
 
 	"gonum.org/v1/plot"
 	"gonum.org/v1/plot/font"
@@ -34,6 +36,26 @@ type ErrorsOptions struct {
 var errorPalette = []color.RGBA{
 	{0, 0, 0, 255}, {230, 159, 0, 255}, {86, 180, 233, 255}, {0, 158, 115, 255},
 	{213, 94, 0, 255}, {0, 114, 178, 255}, {204, 121, 167, 255}, {240, 228, 66, 255},
+}
+
+// mmTicks labels a logarithmic millimetre axis at 1, 2 and 5 per decade.
+type mmTicks struct{}
+
+func (mmTicks) Ticks(min, max float64) []plot.Tick {
+	var ts []plot.Tick
+	for d := math.Pow(10, math.Floor(math.Log10(min))); d <= max; d *= 10 {
+		for _, m := range []float64{1, 2, 5} {
+			v := d * m
+			if v < min || v > max {
+				continue
+			}
+			ts = append(ts, plot.Tick{Value: v, Label: strconv.FormatFloat(v, 'g', -1, 64)})
+		}
+	}
+	if len(ts) < 2 {
+		return plot.LogTicks{}.Ticks(min, max)
+	}
+	return ts
 }
 
 // ErrorsFigure draws, side by side, the RMSE and the 95th percentile of the
@@ -65,16 +87,21 @@ func ErrorsFigure(w io.Writer, rows []forecast.ErrorStats, opt ErrorsOptions) er
 		p := plot.New()
 		p.Title.Text = title
 		p.X.Label.Text = "horizon (ms)"
-		p.Y.Label.Text = "error (mm)"
-		p.Y.Min = 0
+		p.Y.Label.Text = "error (mm, log scale)"
+		p.Y.Scale = plot.LogScale{}
+		p.Y.Tick.Marker = mmTicks{}
 		p.Add(plotter.NewGrid())
 		p.Legend.Top, p.Legend.Left = true, true
+		p.Legend.TextStyle.Font.Size = 9
+		p.Legend.Padding = vg.Points(1)
 		for i, m := range models {
 			rs := byModel[m]
 			sort.Slice(rs, func(a, b int) bool { return rs[a].HorizonMS < rs[b].HorizonMS })
 			xy := make(plotter.XYs, len(rs))
 			for j, r := range rs {
-				xy[j].X, xy[j].Y = r.HorizonMS, val(r)*1000
+				// Log scale: a zero error (an exact forecast) is drawn at
+				// 1 µm.
+				xy[j].X, xy[j].Y = r.HorizonMS, math.Max(val(r)*1000, 1e-3)
 			}
 			if len(xy) == 0 {
 				continue
@@ -105,7 +132,7 @@ func ErrorsFigure(w io.Writer, rows []forecast.ErrorStats, opt ErrorsOptions) er
 	dc := draw.New(svg)
 	dc.SetColor(color.White)
 	dc.Fill(dc.Rectangle.Path())
-	titleH, capH := 9*vg.Millimeter, 8*vg.Millimeter
+	titleH, capH := 9*vg.Millimeter, 11*vg.Millimeter
 	area := draw.Canvas{Canvas: svg, Rectangle: vg.Rectangle{
 		Min: vg.Point{X: 0, Y: capH}, Max: vg.Point{X: opt.Width, Y: opt.Height - titleH}}}
 	tiles := draw.Tiles{Rows: 1, Cols: 2, PadX: 6 * vg.Millimeter, PadTop: 2 * vg.Millimeter, PadBottom: 2 * vg.Millimeter, PadLeft: 2 * vg.Millimeter, PadRight: 3 * vg.Millimeter}
@@ -115,7 +142,9 @@ func ErrorsFigure(w io.Writer, rows []forecast.ErrorStats, opt ErrorsOptions) er
 	ts := text.Style{Color: color.Black, Font: font.From(plot.DefaultFont, 12), XAlign: draw.XCenter, Handler: plot.DefaultTextHandler}
 	dc.FillText(ts, vg.Point{X: opt.Width / 2, Y: opt.Height - titleH/2 - 4}, opt.Title)
 	cap := text.Style{Color: color.Gray{Y: 70}, Font: font.From(plot.DefaultFont, 7.5), Handler: plot.DefaultTextHandler}
-	dc.FillText(cap, vg.Point{X: 4 * vg.Millimeter, Y: capH / 2}, "3D error of each forecast against the recorded position. forereach is "+safety.Short+".")
+	dc.FillText(cap, vg.Point{X: 4 * vg.Millimeter, Y: capH - 4*vg.Millimeter},
+		"3D error of each forecast against the recorded position (fitted models: cross-validated or on new data).")
+	dc.FillText(cap, vg.Point{X: 4 * vg.Millimeter, Y: capH - 8*vg.Millimeter}, "forereach is "+safety.Short+".")
 	_, err = svg.WriteTo(w)
 	return err
 }
