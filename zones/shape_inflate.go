@@ -73,9 +73,9 @@ func (f *Inflated) convex() bool { return f.base.convex() }
 
 // refineBound delegates to the base shape with the margin added (see
 // Prism.refineBound).
-func (f *Inflated) refineBound(p0, dp r3.Vec, r0, dr, m, a, b float64) float64 {
+func (f *Inflated) refineBound(p0, dp r3.Vec, r0, dr, m, a, b, fa, fb float64) float64 {
 	if r, ok := f.base.(boundRefiner); ok {
-		return r.refineBound(p0, dp, r0, dr, m+f.margin, a, b)
+		return r.refineBound(p0, dp, r0, dr, m+f.margin, a, b, fa, fb)
 	}
 	return math.Inf(-1)
 }

@@ -647,46 +647,62 @@ func earClip(pts []r2.Vec) [][3]r2.Vec {
 }
 
 // refineBound returns a lower bound of f(s) = sd(p0 + s·dp) − (r0 + s·dr) − m
-// over s ∈ [a, b], for a non-convex prism, where the Lipschitz bound alone
-// would need many subdivisions (a hand moving along a wall, inside or
-// outside). It returns −Inf when it has nothing to offer.
+// over s ∈ [a, b], given fa = f(a) and fb = f(b), for a non-convex prism,
+// where the Lipschitz bound alone would need many subdivisions (a hand
+// moving along a wall, inside or outside). It returns −Inf when it has
+// nothing to offer.
 //
-// Outside the prism the signed distance is the minimum of the pieces'
-// signed distances (the distance to a union is the minimum of the
-// distances), each convex, so the smallest of the pieces' tangent bounds
-// bounds f at every outside point; when those bounds also show every
-// piece's signed distance positive on the interval, no point of it is
-// inside and that is the answer. Inside, sd = −min_k c_k with c_k the
-// distances to the wall of edge k (the plane distance to the edge) and to
-// the two caps, all convex, so f >= −c_k − R − m, a concave function of s
-// whose minimum over [a, b] is at an end: the largest of these end minima
-// bounds f at every inside point. The result is the smaller of the two.
-func (p *Prism) refineBound(p0, dp r3.Vec, r0, dr, m, a, b float64) float64 {
+// Inside, sd = −min_k c_k with c_k the distances to the wall of edge k (the
+// plane distance to the edge) and to the two caps, all convex; so at inside
+// points f >= −c_k − R − m for every k, a concave function of s whose
+// minimum over [a, b] is at an end: the largest of these end minima, lbIn,
+// bounds f at every inside point. Outside, sd is the minimum of the
+// triangular pieces' signed distances (the distance to a union is the
+// minimum of the distances), each convex, so the smallest of the pieces'
+// tangent bounds, lbOut, bounds f at every outside point. When those
+// bounds also show every piece's signed distance positive on the interval,
+// no point of it is inside and lbOut is the answer; otherwise it is
+// min(lbOut, lbIn). When an end is inside, the pieces are not consulted:
+// outside points have f >= −R − m there, which is used instead of lbOut.
+func (p *Prism) refineBound(p0, dp r3.Vec, r0, dr, m, a, b, fa, fb float64) float64 {
 	if len(p.pieces) == 0 {
 		return math.Inf(-1)
 	}
 	pa, pb := r3.Add(p0, r3.Scale(a, dp)), r3.Add(p0, r3.Scale(b, dp))
 	ra, rb := r0+a*dr, r0+b*dr
-	ls := norm(dp) + math.Abs(dr)
-	outside := true
-	lbOut := math.Inf(1)
-	for _, q := range p.pieces {
-		sa, ga := q.sdGrad(pa)
-		sb, gb := q.sdGrad(pb)
-		da, db := r3.Dot(ga, dp), r3.Dot(gb, dp)
-		it := interval{a: a, b: b, ga: sa, gb: sb, da: da, db: db}
-		if it.lowerBound(norm(dp), true) <= 0 {
-			outside = false
+	var lbOut float64
+	if fa+ra+m < 0 || fb+rb+m < 0 {
+		lbOut = -max(ra, rb) - m // an end is inside
+	} else {
+		ls := norm(dp) + math.Abs(dr)
+		segBox := AABB{
+			Min: r3.Vec{X: min(pa.X, pb.X), Y: min(pa.Y, pb.Y), Z: min(pa.Z, pb.Z)},
+			Max: r3.Vec{X: max(pa.X, pb.X), Y: max(pa.Y, pb.Y), Z: max(pa.Z, pb.Z)},
 		}
-		it = interval{a: a, b: b, ga: sa - ra - m, gb: sb - rb - m, da: da - dr, db: db - dr}
-		lbOut = min(lbOut, it.lowerBound(ls, true))
-	}
-	if outside {
-		return lbOut
+		outside := true
+		lbOut = math.Inf(1)
+		for _, q := range p.pieces {
+			// A piece whose bounds are farther than the best bound so far
+			// can neither lower it nor hold an inside point.
+			if d := segBox.Distance(q.bounds); d > 0 && d-max(ra, rb)-m >= lbOut {
+				continue
+			}
+			sa, ga := q.sdGrad(pa)
+			sb, gb := q.sdGrad(pb)
+			da, db := r3.Dot(ga, dp), r3.Dot(gb, dp)
+			it := interval{a: a, b: b, ga: sa, gb: sb, da: da, db: db}
+			if it.lowerBound(norm(dp), true) <= 0 {
+				outside = false
+			}
+			it = interval{a: a, b: b, ga: sa - ra - m, gb: sb - rb - m, da: da - dr, db: db - dr}
+			lbOut = min(lbOut, it.lowerBound(ls, true))
+		}
+		if outside {
+			return lbOut
+		}
 	}
 	lbIn := math.Inf(-1)
-	n := len(p.pts)
-	for i := 0; i < n; i++ {
+	for i := range p.pts {
 		ca := p.edgeDist(i, pa.X, pa.Y)
 		cb := p.edgeDist(i, pb.X, pb.Y)
 		lbIn = max(lbIn, min(-ca-ra, -cb-rb))

@@ -35,10 +35,11 @@ type pointEval struct {
 
 // boundRefiner is implemented by non-convex shapes that can bound the
 // separation along a piece of segment better than the Lipschitz bound:
-// refineBound returns a lower bound of sd(p0 + s·dp) − (r0 + s·dr) − m over
-// s ∈ [a, b] (p0, dp in the shape's frame), or −Inf.
+// refineBound returns a lower bound of f(s) = sd(p0 + s·dp) − (r0 + s·dr) − m
+// over s ∈ [a, b] (p0, dp in the shape's frame), given fa = f(a) and
+// fb = f(b); or −Inf.
 type boundRefiner interface {
-	refineBound(p0, dp r3.Vec, r0, dr, m, a, b float64) float64
+	refineBound(p0, dp r3.Vec, r0, dr, m, a, b, fa, fb float64) float64
 }
 
 // interval is a piece [a, b] of one path segment in the segment's parameter
@@ -136,7 +137,7 @@ func sweepLocal(ev evaluator, cvx bool, path PathView, n int, posed bool, m *mat
 				continue
 			}
 			if refiner != nil {
-				lb = max(lb, refiner.refineBound(e0.p, dp, r0, dr, margin, it.a, it.b))
+				lb = max(lb, refiner.refineBound(e0.p, dp, r0, dr, margin, it.a, it.b, it.ga, it.gb))
 				if (touched || lb > 0) && lb >= best-tol {
 					lbAll = min(lbAll, lb)
 					continue

@@ -363,7 +363,9 @@ func TestRefineBoundValid(t *testing.T) {
 				u := a + (b-a)*float64(k)/n
 				dmin = min(dmin, s.SignedDistance(r3.Add(p0, r3.Scale(u, dp)))-(r0+u*dr)-m)
 			}
-			lb := ref.refineBound(p0, dp, r0, dr, m, a, b)
+			fa := s.SignedDistance(r3.Add(p0, r3.Scale(a, dp))) - (r0 + a*dr) - m
+			fb := s.SignedDistance(r3.Add(p0, r3.Scale(b, dp))) - (r0 + b*dr) - m
+			lb := ref.refineBound(p0, dp, r0, dr, m, a, b, fa, fb)
 			if lb > dmin+1e-12 {
 				t.Fatalf("%s: bound %.9g above the sampled minimum %.9g (p0 %v dp %v [%g,%g])", s.Kind(), lb, dmin, p0, dp, a, b)
 			}
