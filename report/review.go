@@ -253,15 +253,15 @@ func LeadHistogram(w io.Writer, res *review.Result) error {
 	dc := draw.New(svg)
 	dc.SetColor(color.White)
 	dc.Fill(dc.Rectangle.Path())
-	capH := 5 * vg.Millimeter
+	capH := 8 * vg.Millimeter
 	p.Draw(draw.Crop(dc, 0, 0, capH, 0))
 	cap := textStyle(6.5, color.Gray{Y: 60})
 	cap.XAlign = draw.XLeft
-	msg := "Lead: from the first advisory for the entry to the entry."
+	dc.FillText(cap, vg.Point{X: 3 * vg.Millimeter, Y: capH - 3*vg.Millimeter}, "Lead: from the first advisory for the entry to the entry.")
 	if res.Horizon > 0 {
-		msg += fmt.Sprintf(" Dashed red: the needed horizon, %s ms (robot stopping time + system latency).", strconv.FormatFloat(res.Horizon*1000, 'f', 0, 64))
+		dc.FillText(cap, vg.Point{X: 3 * vg.Millimeter, Y: capH - 6.5*vg.Millimeter}, fmt.Sprintf(
+			"Dashed red: the needed horizon, %s ms (robot stopping time + system latency).", strconv.FormatFloat(res.Horizon*1000, 'f', 0, 64)))
 	}
-	dc.FillText(cap, vg.Point{X: 3 * vg.Millimeter, Y: capH - 3*vg.Millimeter}, msg)
 	_, err := svg.WriteTo(w)
 	return err
 }
