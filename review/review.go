@@ -776,6 +776,20 @@ func (rv *Reviewer) Result() *Result {
 		}
 		return a.Reason < b.Reason
 	})
+	// False alarms are booked when judged; list them by recording, then
+	// start.
+	order := map[string]int{}
+	for i, rc := range res.Recordings {
+		order[rc.Name] = i
+	}
+	res.FalseAlarms = append([]FalseAlarm(nil), res.FalseAlarms...)
+	sort.SliceStable(res.FalseAlarms, func(i, j int) bool {
+		a, b := res.FalseAlarms[i], res.FalseAlarms[j]
+		if order[a.Recording] != order[b.Recording] {
+			return order[a.Recording] < order[b.Recording]
+		}
+		return a.Start < b.Start
+	})
 	res.Windows = rv.keeper.sorted()
 	res.OtherMarks = nil
 	for _, e := range res.Entries {
