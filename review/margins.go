@@ -39,6 +39,12 @@ import (
 // own warning episodes (a sample warns the margins >= s only, so the work
 // per sample is the number of grid margins at or above s), judged as in
 // the review (see episodes).
+//
+// The sweep models forecast warnings only: an entry at the first sample
+// after a tracking loss (the hand reappearing inside) is never warned in
+// time by a forecast, whatever the margin, although the engine's fail-safe
+// hold may have been up; the review reports such entries with the engine's
+// own lead.
 
 // Defaults of a margin sweep. Our choices, no source.
 const (
