@@ -115,6 +115,21 @@ func TestReviewCommand(t *testing.T) {
 		}
 	}
 
+	// --html: one self-contained page with the figures.
+	html := filepath.Join(t.TempDir(), "review.html")
+	out.Reset()
+	errb.Reset()
+	if code := run([]string{"review", "-c", cell, "--html", html, rec}, &out, &errb); code != 0 {
+		t.Fatalf("--html: exit %d: %s", code, errb.String())
+	}
+	page, err := os.ReadFile(html)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if n := strings.Count(string(page), "<svg"); n != 6 { // plan, 4 incidents, lead times
+		t.Errorf("--html: %d figures, want 6", n)
+	}
+
 	// --json: exactly one object, the notice on stderr.
 	out.Reset()
 	errb.Reset()
