@@ -9,7 +9,6 @@ import (
 
 	"forereach/bus"
 	"forereach/forecast"
-	"forereach/zones"
 )
 
 // The review benchmarks run on one hour of a 240 Hz tracker following both
@@ -22,7 +21,8 @@ import (
 // BenchmarkDecodeHour only decodes the file (bus.OpenSamples and Next);
 // BenchmarkReviewHour reviews it with the example cell as configured (its
 // kalman-cv forecast); BenchmarkReviewHourCV with the constant-velocity
-// forecast, to show the forecaster's share.
+// forecast, to show the forecaster's share; BenchmarkMarginsHour sweeps
+// the margins over it.
 
 var benchHour struct {
 	once sync.Once
@@ -147,4 +147,35 @@ func benchReview(b *testing.B, model string) {
 func BenchmarkReviewHour(b *testing.B)   { benchReview(b, "") }
 func BenchmarkReviewHourCV(b *testing.B) { benchReview(b, forecast.KindCV) }
 
-var _ = zones.Length(0)
+// BenchmarkMarginsHour sweeps 101 margins (0 to 500 mm) over the hour with
+// the constant-velocity forecast.
+func BenchmarkMarginsHour(b *testing.B) {
+	path, n := hourRecording(b)
+	cfg := exampleCell(b)
+	cfg.Forecast.Model = forecast.KindCV
+	m, err := NewModel(cfg, nil)
+	if err != nil {
+		b.Fatal(err)
+	}
+	b.ReportAllocs()
+	b.ResetTimer()
+	for i := 0; i < b.N; i++ {
+		mg, err := NewMargins(cfg, m, MarginOptions{})
+		if err != nil {
+			b.Fatal(err)
+		}
+		f, err := os.Open(path)
+		if err != nil {
+			b.Fatal(err)
+		}
+		if err := mg.Add("hour", Records(bus.NewRecordReader(f, path))); err != nil {
+			b.Fatal(err)
+		}
+		f.Close()
+		if res := mg.Result(); res.Samples != uint64(n) {
+			b.Fatalf("swept %d samples, want %d", res.Samples, n)
+		}
+	}
+	b.StopTimer()
+	reportRate(b, n)
+}
