@@ -147,6 +147,10 @@ func (h hline) Plot(c draw.Canvas, p *plot.Plot) {
 	c.StrokeLine2(h.style, c.Min.X, y, c.Max.X, y)
 }
 
+// sepGap is the longest time between samples drawn as one line in a
+// separation figure (s): longer gaps are tracking gaps.
+const sepGap = 0.1
+
 // SeparationFigure draws one incident's window: the hand's separation from
 // the zone's shape (mm, negative inside) against time from the incident,
 // over the advisory level of the cell, with the zone's surface, the near
@@ -178,17 +182,25 @@ func SeparationFigure(w io.Writer, win *review.Window, n int, nearMiss, horizon 
 	if horizon > 0 && win.Kind != "near miss" {
 		p.Add(vline{-horizon, draw.LineStyle{Color: color.Gray{Y: 90}, Width: 0.6, Dashes: []vg.Length{2, 2}}})
 	}
-	if len(xy) > 1 {
-		for i := range xy { // clip far values to the top of the plot
-			xy[i].Y = math.Min(xy[i].Y, p.Y.Max)
+	for i := range xy { // clip far values to the top of the plot
+		xy[i].Y = math.Min(xy[i].Y, p.Y.Max)
+	}
+	// One line per stretch of samples: no line across a tracking gap.
+	for start := 0; start < len(xy); {
+		end := start + 1
+		for end < len(xy) && xy[end].X-xy[end-1].X <= sepGap {
+			end++
 		}
-		l, err := plotter.NewLine(xy)
-		if err != nil {
-			return err
+		if end-start > 1 {
+			l, err := plotter.NewLine(xy[start:end])
+			if err != nil {
+				return err
+			}
+			l.Color = color.Black
+			l.Width = 1.2
+			p.Add(l)
 		}
-		l.Color = color.Black
-		l.Width = 1.2
-		p.Add(l)
+		start = end
 	}
 	width, height := 13*vg.Centimeter, 7*vg.Centimeter
 	svg := vgsvg.NewWith(vgsvg.UseWH(width, height))
@@ -199,15 +211,15 @@ func SeparationFigure(w io.Writer, win *review.Window, n int, nearMiss, horizon 
 	p.Draw(draw.Crop(dc, 0, 0, capH, 0))
 	cap := textStyle(6.5, color.Gray{Y: 60})
 	cap.XAlign = draw.XLeft
-	lead := ""
+	line1 := "Background: cell advisory (amber reduce, red hold). Dashed purple: near-miss distance. Breaks: no samples."
+	line2 := ""
 	if win.Lead != nil {
-		lead = fmt.Sprintf(" Lead %.3f s.", *win.Lead)
+		line2 = fmt.Sprintf("Lead %.3f s. ", *win.Lead)
 	}
-	line1 := "Background: advisory of the cell (amber reduce, red hold). Dashed purple: near miss distance." + lead
-	line2 := win.Recording
 	if horizon > 0 && win.Kind != "near miss" {
-		line2 = fmt.Sprintf("Dashed grey: the needed horizon (%s ms) before the entry. %s", strconv.FormatFloat(horizon*1000, 'f', 0, 64), win.Recording)
+		line2 += fmt.Sprintf("Dashed grey: needed horizon (%s ms) before the entry. ", strconv.FormatFloat(horizon*1000, 'f', 0, 64))
 	}
+	line2 += win.Recording
 	dc.FillText(cap, vg.Point{X: 3 * vg.Millimeter, Y: capH - 3*vg.Millimeter}, line1)
 	dc.FillText(cap, vg.Point{X: 3 * vg.Millimeter, Y: capH - 6.5*vg.Millimeter}, line2)
 	_, err := svg.WriteTo(w)
