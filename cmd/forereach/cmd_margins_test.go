@@ -3,6 +3,7 @@ package main
 import (
 	"bytes"
 	"encoding/json"
+	"encoding/xml"
 	"math"
 	"os"
 	"path/filepath"
@@ -47,9 +48,17 @@ func TestMarginsCommand(t *testing.T) {
 	cell := rvCellFile(t, "model: kalman-cv", "model: cv", "speed: 2.0", "speed: 0")
 	rec := rvRecording(t, "planted.jsonl")
 	yamlOut := filepath.Join(t.TempDir(), "zones.yaml")
+	svgOut := filepath.Join(t.TempDir(), "sweep.svg")
 	var out, errb bytes.Buffer
-	if code := run([]string{"margins", "-c", cell, "--yaml", yamlOut, rec}, &out, &errb); code != 0 {
+	if code := run([]string{"margins", "-c", cell, "--yaml", yamlOut, "--svg", svgOut, rec}, &out, &errb); code != 0 {
 		t.Fatalf("exit %d: %s", code, errb.String())
+	}
+	svg, err := os.ReadFile(svgOut)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if err := xml.Unmarshal(svg, new(struct{})); err != nil || !bytes.Contains(svg, []byte("robot-envelope")) {
+		t.Errorf("--svg: not the sweep figure (%v)", err)
 	}
 	text := out.String()
 	for _, want := range []string{
