@@ -118,6 +118,7 @@ type Service struct {
 	lat        map[string]*trackLatency
 	latAuto    bool
 	offset     float64 // smoothed arrival minus source time, all tracks
+	offDev     float64 // smoothed absolute deviation from offset
 	hasOffset  bool
 	limiter    logLimiter
 	lastLogged time.Time
@@ -572,6 +573,7 @@ func (s *Service) inputLatency(r *SampleRecord) {
 	if !s.hasOffset {
 		s.offset, s.hasOffset = d, true
 	} else {
+		s.offDev += latencyAlpha * (math.Abs(d-s.offset) - s.offDev)
 		s.offset += latencyAlpha * (d - s.offset)
 	}
 	tl := s.lat[r.Track]
@@ -612,12 +614,17 @@ func (s *Service) inputLatency(r *SampleRecord) {
 }
 
 // advance moves the engine's clock to the present (on the samples' axis)
-// so that silent tracks are noticed and advisories released.
+// so that silent tracks are noticed and advisories released. The present is
+// the wall clock minus the usual input latency and four times its usual
+// deviation plus 2 ms: late enough that, while samples flow, the clock
+// stays behind the latest sample (and advisories keep the time of the
+// sample that caused them), and silence is noticed a few milliseconds after
+// policy.stale_after.
 func (s *Service) advance() {
 	if !s.hasOffset {
 		return
 	}
-	t := unixSeconds(s.now()) - s.offset
+	t := unixSeconds(s.now()) - s.offset - 4*s.offDev - 0.002
 	s.eng.Advance(t)
 	s.drainEvents(nil, nil)
 }
