@@ -1,6 +1,7 @@
 package bus
 
 import (
+	"bufio"
 	"context"
 	"fmt"
 	"io"
@@ -448,4 +449,122 @@ func TestStartBrokerLoopbackOnly(t *testing.T) {
 	if _, err := StartBroker("0.0.0.0:0", nil); err == nil || !strings.Contains(err.Error(), "loopback") {
 		t.Fatalf("embedded broker on all interfaces: %v", err)
 	}
+}
+
+// Robot states move the zones attached to the robot: the tool brought onto
+// a standing hand gives a hold for the tool's zone; a state naming a frame
+// no zone is attached to is rejected (bad-robot-state) and recorded as
+// such; samples keep flowing either way. Input latency per track shows in
+// the metrics.
+func TestServiceRobotStateAndLatency(t *testing.T) {
+	broker := startBroker(t)
+	cfg := loadCell(t, func(c *zones.Config) {
+		c.Forecast.Model = "cv"
+		c.Forecast.LatencyAuto = true
+		c.Bus.Tick = zones.Duration(5 * time.Second)
+	})
+	var buf strings.Builder
+	rec, _ := NewRecorder(&syncWriter{w: &buf}, Header{Cell: cfg.Cell})
+	m := NewMetrics()
+	svc, stop := runService(t, cfg, broker.URL(), rec, m)
+	_, robotTopic, advTopic, _, _ := svc.Topics()
+	sub := newTestClient(t, broker.URL(), "observer", advTopic)
+	pub := newTestClient(t, broker.URL(), "source")
+
+	// A hand standing still in the walkway, stamped 30 ms before it is
+	// published.
+	hand := r3.Vec{X: 1.0, Y: 0.8, Z: 1.0}
+	send := func(i int) {
+		now := float64(time.Now().Add(-30*time.Millisecond).UnixNano()) / 1e9
+		s := SampleRecord{Sample: forecast.Sample{Track: "op1/right", T: now, P: hand}}
+		pub.publish(t, "forereach/pl3-palletiser/hands", 1, EncodeSample(nil, &s)).Wait()
+	}
+	for i := 0; i < 50; i++ {
+		send(i)
+		time.Sleep(5 * time.Millisecond)
+	}
+	if c := svc.Counters(); c.Level != "clear" || c.Samples != 50 {
+		t.Fatalf("hand in the walkway: %+v", c)
+	}
+	robot := func(payload string) {
+		pub.publish(t, robotTopic, 1, []byte(payload)).Wait()
+	}
+	now := func() string { return fmt.Sprintf("%.6f", float64(time.Now().UnixNano())/1e9) }
+	robot(`{"v":1,"t":` + now() + `,"frames":[{"name":"elbow","pos":[0,0,0],"quat":[1,0,0,0]}]}`)
+	robot(`{"v":1,"t":` + now() + `,"frames":[{"name":"tool","pos":[1.0,0.8,1.3],"quat":[0,1,0,0]}]}`)
+	sub.waitFor(t, "hold for the tool's zone", 5*time.Second, func() bool {
+		for _, msg := range sub.messages(advTopic) {
+			a, _ := DecodeAdvisory(msg.payload)
+			if a.Level == "hold" {
+				for _, r := range a.Reasons {
+					if strings.HasPrefix(r.Zone, "tool-") {
+						return true
+					}
+				}
+			}
+		}
+		return false
+	})
+	robot(`{"v":1,"t":"soon"}`)
+	for i := 0; i < 20; i++ {
+		send(i)
+	}
+	deadline := time.Now().Add(5 * time.Second)
+	for svc.Counters().Samples < 70 && time.Now().Before(deadline) {
+		time.Sleep(10 * time.Millisecond)
+	}
+	c := svc.Counters()
+	if c.RobotStates != 1 || c.Rejected["bad-robot-state"] != 1 || c.Rejected[ReasonBadField] != 1 || c.Samples != 70 {
+		t.Errorf("counters %+v", c)
+	}
+	var w strings.Builder
+	bw := bufio.NewWriter(&w)
+	m.Write(bw)
+	bw.Flush()
+	var lat float64
+	for _, line := range strings.Split(w.String(), "\n") {
+		if strings.HasPrefix(line, `forereach_track_input_latency_seconds{track="op1/right"} `) {
+			fmt.Sscan(strings.Fields(line)[1], &lat)
+		}
+	}
+	// 30 ms of stamping plus the trip through the broker (a few ms).
+	if lat < 0.030 || lat > 0.080 {
+		t.Errorf("track input latency %v s, want 30 ms and a little", lat)
+	}
+	stop()
+	rec.Flush()
+	rr := NewRecordReader(strings.NewReader(buf.String()), "mem")
+	kinds := map[Kind]int{}
+	var rejects []string
+	for {
+		r, err := rr.Next()
+		if err == io.EOF {
+			break
+		}
+		if err != nil {
+			t.Fatal(err)
+		}
+		kinds[r.Kind]++
+		if r.Kind == KindReject {
+			rejects = append(rejects, r.Reject.Reason+" "+r.Reject.Topic)
+		}
+		if r.Kind == KindRobot && (len(r.Robot.Frames) != 1 || r.Robot.Frames[0].Name != "tool" || r.Robot.Arrival == 0) {
+			t.Errorf("recorded robot state %+v", r.Robot)
+		}
+	}
+	if kinds[KindRobot] != 1 || kinds[KindSample] != 70 || len(rejects) != 2 ||
+		rejects[0] != "bad-robot-state "+robotTopic || rejects[1] != "bad-field "+robotTopic {
+		t.Errorf("recording: %v, rejections %v", kinds, rejects)
+	}
+}
+
+type syncWriter struct {
+	mu sync.Mutex
+	w  io.Writer
+}
+
+func (s *syncWriter) Write(p []byte) (int, error) {
+	s.mu.Lock()
+	defer s.mu.Unlock()
+	return s.w.Write(p)
 }
