@@ -143,3 +143,45 @@ func TestSolveSPDMatchesGonum(t *testing.T) {
 		}
 	}
 }
+
+// The variance factors of the local fit are the diagonal of (AᵀA)⁻¹ (scaled
+// to derivatives), checked against gonum's inverse; and, as a closed form,
+// for the linear fit over n equally spaced samples at spacing h the slope
+// variance factor is 12/(h²·n(n²−1)) (ordinary least squares slope variance
+// σ²/Σ(t−t̄)²).
+func TestLocalFitVarianceFactors(t *testing.T) {
+	h := newHistory(1, 8)
+	const dt = 0.01
+	for i := 0; i < 9; i++ {
+		h.push(float64(i)*dt, vec(float64(i), 0, 0))
+	}
+	f := polyFit{WantVar: true}
+	if !h.fit(&f, 1, 1, 3) {
+		t.Fatal("no fit")
+	}
+	n := 9.0
+	if want := 12 / (dt * dt * n * (n*n - 1)); math.Abs(f.VarD[1]-want) > 1e-9*want {
+		t.Fatalf("slope variance factor %g, want %g", f.VarD[1], want)
+	}
+	if !h.fit(&f, 3, 1, 5) {
+		t.Fatal("no fit")
+	}
+	A := mat.NewDense(9, 4, nil)
+	for i := 0; i < 9; i++ {
+		for k := 0; k < 4; k++ {
+			A.Set(i, k, math.Pow(float64(i-8)*dt, float64(k)))
+		}
+	}
+	var ata, inv mat.Dense
+	ata.Mul(A.T(), A)
+	if err := inv.Inverse(&ata); err != nil {
+		t.Fatal(err)
+	}
+	fact := []float64{1, 1, 2, 6}
+	for k := 0; k < 4; k++ {
+		want := inv.At(k, k) * fact[k] * fact[k]
+		if math.Abs(f.VarD[k]-want) > 1e-6*want {
+			t.Errorf("cubic: variance factor %d = %g, gonum %g", k, f.VarD[k], want)
+		}
+	}
+}

@@ -14,10 +14,11 @@ import (
 //
 // The terms adapt to the regime of the motion. ω, the angular frequency of
 // the recent motion, is the square root of the ratio of the running mean
-// squares of acceleration and speed (time constant oscTau): slow, sustained
-// reaching gives a small ω, quick back-and-forth motion a large one. The
-// terms are those of a harmonic oscillator of that frequency started from
-// the current velocity v and acceleration a,
+// squares of acceleration and speed (time constant oscTau; the share of the
+// acceleration that measurement noise explains is taken out): slow,
+// sustained reaching gives a small ω, quick back-and-forth motion a large
+// one. The terms are those of a harmonic oscillator of that frequency
+// started from the current velocity v and acceleration a,
 //
 //	osc-v = v·sin(ωτ)/ω       (→ v·τ as ωτ → 0)
 //	osc-a = a·(1 − cos ωτ)/ω²  (→ a·τ²/2 as ωτ → 0)
@@ -26,14 +27,24 @@ import (
 // reduce to the constant-acceleration extrapolation; for quick motion they
 // damp it, as much as the motion's own time scale says. A third term,
 //
-//	osc-dv = λ·(v50 − v)·sin(ωτ)/ω,  λ = ā²/(ā² + blendAccel²),
+//	osc-dv = λ·(v_short − v)·sin(ωτ)/ω,  λ = ā²/(ā² + blendAccel²),
 //
 // lets vigorous motion (large running mean square acceleration ā²), where
-// the lag of the 100 ms velocity costs more than noise, use a 50 ms velocity
+// the lag of a 100 ms velocity costs more than noise, use a 50 ms velocity
 // instead. The fitted gains correct what the oscillator gets wrong, per
 // horizon. (Found by leave-one-person-out cross-validation on real wrists:
 // a pooled fit of many raw velocity and acceleration windows does worse on
 // the person left out than these three terms.)
+//
+// The velocities adapt to the tracker's noise: v is a linear fit's velocity
+// over 100 ms plus the difference to a quadratic fit's, and v_short adds the
+// difference to a 50 ms quadratic fit's, each difference shrunk by the
+// positive-part James–Stein factor 1 − 3σ_Δ²/|Δ|², σ_Δ² its noise variance
+// (from the running mean square residual of the 100 ms fit and the fits'
+// variance factors). On clean motion capture the differences pass whole; on
+// a noisy tracker the smoother estimate is kept. A sample that lands farther
+// from the one-step extrapolation than any hand moves (gateDist +
+// gateSpeed·Δt) is taken for a glitch and coasted over.
 //
 // The uncertainty radius is z(τ)·σ(τ), with the scale σ(τ) = Σ_j b_j(τ)·s_j(τ)
 // a non-negative combination of the root-mean-square speed times τ, the
@@ -45,13 +56,13 @@ import (
 //
 // The feature set is versioned: a gains file names its set and the names of
 // its terms, and is refused when they differ from the built-in ones.
-const FeatureSet = "osc-v2"
+const FeatureSet = "osc-v3"
 
 // featureNames name the terms, in order.
 var featureNames = [...]string{
-	"osc-v",  // v·sin(ωτ)/ω, v from a quadratic fit over 100 ms
+	"osc-v",  // v·sin(ωτ)/ω, v the noise-adaptive 100 ms velocity
 	"osc-a",  // a·(1−cos ωτ)/ω², a from a cubic fit over 300 ms
-	"osc-dv", // (v50 − v)·λ·sin(ωτ)/ω, v50 from a quadratic fit over 50 ms
+	"osc-dv", // λ·(v_short − v)·sin(ωτ)/ω, v_short the noise-adaptive 50 ms velocity
 }
 
 // NumFeatures is the number of terms of the fitted model.
@@ -79,6 +90,13 @@ const (
 	// longer window, slow motion by measurement noise, so the short window
 	// earns its place only in the first.
 	blendAccel = 10.0
+	// The outlier gate: a sample more than gateDist + gateSpeed·Δt from the
+	// one-step extrapolation is a glitch; gateMisses in a row restart the
+	// history. Human hands change velocity by far less than gateSpeed
+	// within one sample interval (common practice, no source: hand speeds
+	// peak at a few m/s).
+	gateDist, gateSpeed = 0.08, 3.0 // m, m/s
+	gateMisses          = 3
 	// minScale keeps the radius scale positive (m).
 	minScale = 1e-4
 )
@@ -86,28 +104,48 @@ const (
 // kinState is the kinematic state the terms are built from, refreshed at
 // every update. It allocates nothing after warm-up.
 type kinState struct {
-	h     history
-	ok    bool
-	t     float64
-	p     r3.Vec
-	v     r3.Vec // velocity, quadratic fit over 100 ms
-	a     r3.Vec // acceleration, cubic fit over 300 ms
-	aq    r3.Vec // acceleration, quadratic fit over 200 ms (for ω)
-	vs    r3.Vec // velocity, quadratic fit over 50 ms
-	dv    float64
-	msv   float64 // running mean square of |v|
-	msa   float64 // running mean square of |aq|
-	omega float64
-	tms   float64 // time of the last running-mean update
-	nms   int
-	fit   polyFit
+	h      history
+	ok     bool
+	t      float64
+	p      r3.Vec
+	v      r3.Vec  // noise-adaptive velocity over 100 ms (see update)
+	a      r3.Vec  // acceleration, cubic fit over 300 ms
+	vs     r3.Vec  // shorter-window velocity (see update)
+	noise2 float64 // running mean square residual of the 100 ms quadratic fit
+	dv     float64
+	msv    float64 // running mean square of |v|
+	msa    float64 // running mean square of the 200 ms quadratic fit's |a|, less noise
+	omega  float64
+	tms    float64 // time of the last running-mean update
+	misses int     // glitches in a row (see update)
+	nms    int
+	fit    polyFit
 }
 
 func newKinState() kinState { return kinState{h: newHistory(featKeep, 8)} }
 
-func (k *kinState) reset() { k.h.reset(); k.ok = false; k.nms = 0 }
+func (k *kinState) reset() { k.h.reset(); k.ok = false; k.nms = 0; k.misses = 0 }
 
 func (k *kinState) update(t float64, p r3.Vec) {
+	// Outlier gate: a sample farther from the one-step extrapolation of the
+	// current state than any hand moves in one interval is taken for a
+	// glitch and replaced by the extrapolation (the track coasts). After
+	// gateMisses glitches in a row the measurements are believed again: the
+	// history restarts from the new position.
+	if k.ok {
+		dt := t - k.t
+		pred := r3.Add(k.p, r3.Add(r3.Scale(dt, k.v), r3.Scale(dt*dt/2, k.a)))
+		if r3.Norm(r3.Sub(p, pred)) > gateDist+gateSpeed*dt {
+			k.misses++
+			if k.misses < gateMisses {
+				p = pred
+			} else {
+				k.reset()
+			}
+		} else {
+			k.misses = 0
+		}
+	}
 	k.h.push(t, p)
 	k.t, k.p = t, p
 	k.ok = false
@@ -116,6 +154,7 @@ func (k *kinState) update(t float64, p r3.Vec) {
 		return
 	}
 	f := &k.fit
+	f.WantVar = false
 	if !k.h.fit(f, 1, 0.025, 3) {
 		return
 	}
@@ -124,35 +163,62 @@ func (k *kinState) update(t float64, p r3.Vec) {
 		return
 	}
 	k.dv = r3.Norm(r3.Sub(v25, f.D[1]))
+	f.WantVar = true
+	if !k.h.fit(f, 1, 0.1, 3) {
+		return
+	}
+	vL, varL := f.D[1], f.VarD[1]
 	if !k.h.fit(f, 2, 0.1, 4) {
 		return
 	}
-	k.v = f.D[1]
+	vM, varM := f.D[1], f.VarD[1]
+	rms2 := f.RMS * f.RMS
 	if !k.h.fit(f, 2, 0.05, 4) {
 		return
 	}
-	k.vs = f.D[1]
+	vS, varS := f.D[1], f.VarD[1]
 	if !k.h.fit(f, 2, 0.2, 5) {
 		return
 	}
-	k.aq = f.D[2]
+	aq, varA := f.D[2], f.VarD[2]
+	f.WantVar = false
 	if !k.h.fit(f, 3, 0.3, 6) {
 		return
 	}
 	k.a = f.D[2]
-	v2, a2 := r3.Norm2(k.v), r3.Norm2(k.aq)
-	if k.nms == 0 {
-		k.msv, k.msa = v2, a2
-	} else {
-		w := -math.Expm1(-(t - k.tms) / oscTau)
-		k.msv += w * (v2 - k.msv)
-		k.msa += w * (a2 - k.msa)
+	// Running means (time constant oscTau) of the noise variance and of
+	// the squared speed and acceleration.
+	w := 1.0
+	if k.nms > 0 {
+		w = -math.Expm1(-(t - k.tms) / oscTau)
 	}
 	k.tms = t
 	k.nms++
+	k.noise2 += w * (rms2 - k.noise2)
+	// Noise-adaptive velocity: shrink the differences between velocity
+	// estimates of decreasing smoothing towards the smoother one by how much
+	// of each difference measurement noise explains (positive-part
+	// James–Stein factor; for nested least-squares fits the variance of a
+	// difference is the difference of the variances).
+	k.v = r3.Add(vL, r3.Scale(shrink(r3.Sub(vM, vL), k.noise2*(varM-varL)), r3.Sub(vM, vL)))
+	dS := r3.Sub(vS, vM)
+	k.vs = r3.Add(k.v, r3.Scale(shrink(dS, k.noise2*(varS-varM)), dS))
+	a2 := math.Max(0, r3.Norm2(aq)-3*k.noise2*varA)
+	k.msv += w * (r3.Norm2(k.v) - k.msv)
+	k.msa += w * (a2 - k.msa)
 	k.omega = math.Sqrt(k.msa / math.Max(k.msv, 1e-12))
 	k.omega = math.Min(math.Max(k.omega, omegaMin), omegaMax)
 	k.ok = true
+}
+
+// shrink returns the positive-part James–Stein factor of a 3-vector
+// difference d whose components carry noise of variance v each.
+func shrink(d r3.Vec, v float64) float64 {
+	n2 := r3.Norm2(d)
+	if n2 == 0 {
+		return 0
+	}
+	return math.Max(0, 1-3*v/n2)
 }
 
 // features writes the terms at lead tau into f.

@@ -77,6 +77,11 @@ type polyFit struct {
 	// RMS is the root-mean-square residual of the fit (m), with N − deg − 1
 	// degrees of freedom (0 when there are none).
 	RMS float64
+	// WantVar asks fit to fill VarD: per axis, the variance of D[k] is
+	// σ²·VarD[k] when the samples carry independent noise of variance σ²
+	// (the diagonal of (AᵀA)⁻¹, scaled to derivatives).
+	WantVar bool
+	VarD    [MaxDegree + 1]float64
 }
 
 // eval returns the fitted polynomial at tau seconds after the latest sample.
@@ -167,6 +172,20 @@ func (h *history) fit(f *polyFit, deg int, window float64, minN int) bool {
 	f.D[0] = r3.Add(f.D[0], pl)
 	for k := m; k <= MaxDegree; k++ {
 		f.D[k] = r3.Vec{}
+		f.VarD[k] = 0
+	}
+	if f.WantVar {
+		fact, s := 1.0, 1.0
+		for k := 0; k < m; k++ {
+			if k > 0 {
+				fact *= float64(k)
+				s *= span
+			}
+			var e, x [MaxDegree + 1]r3.Vec
+			e[k].X = 1
+			solveSPD(&a, m, &e, &x)
+			f.VarD[k] = x[k].X * (fact / s) * (fact / s)
+		}
 	}
 	f.N, f.Span = n, span
 	return true

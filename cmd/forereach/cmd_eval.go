@@ -294,14 +294,28 @@ func runEval(args []string, stdout, stderr io.Writer) int {
 	var rows []forecast.ErrorStats
 	for _, m := range models {
 		sc := forecast.NewScorer(hs)
+		mg := gains
 		if m.set.Kind == forecast.KindFitted && gains == nil {
-			g, err := crossValidate(files, hs, eo, m.name, stderr, prog)
-			if err != nil {
+			if groups(files) >= 2 {
+				g, err := crossValidate(files, hs, eo, m.name, stderr, prog)
+				if err != nil {
+					return fail(err)
+				}
+				rows = append(rows, g.Stats(m.name)...)
+				continue
+			}
+			// Too few groups to cross-validate: score the shipped gains,
+			// unless they were fitted on one of FILES.
+			if mg, err = forecast.DefaultGains(); err != nil {
 				return fail(err)
 			}
-			sc = g
-		} else {
-			m.set.Gains = gains
+			if f := fittedOn(mg, files); f != "" {
+				return fail(fmt.Errorf("%s: FILES form one cross-validation group, and the shipped gains were fitted on %s: give files of two groups or more (see --folds), or a gains file not fitted on them (--gains)", m.name, f))
+			}
+			fmt.Fprintf(stderr, "forereach eval: %s: FILES form one cross-validation group: scoring the shipped gains (fitted on other data) instead\n", m.name)
+		}
+		{
+			m.set.Gains = mg
 			model, err := forecast.NewModel(m.set)
 			if err != nil {
 				return fail(fmt.Errorf("%s: %v", m.name, err))
@@ -344,6 +358,30 @@ func runEval(args []string, stdout, stderr io.Writer) int {
 	}
 	printErrorTable(stdout, rows)
 	return 0
+}
+
+// groups returns the number of cross-validation groups among files.
+func groups(files []forecast.FitFile) int {
+	seen := map[string]bool{}
+	for _, f := range files {
+		seen[f.Group] = true
+	}
+	return len(seen)
+}
+
+// fittedOn returns the first of files (by base name) that g was fitted on,
+// or "".
+func fittedOn(g *forecast.Gains, files []forecast.FitFile) string {
+	used := map[string]bool{}
+	for _, f := range g.Fitted.Files {
+		used[filepath.Base(f.Name)] = true
+	}
+	for _, f := range files {
+		if used[filepath.Base(f.Name)] {
+			return f.Name
+		}
+	}
+	return ""
 }
 
 // crossValidate fits the fitted model on files and returns the errors of
