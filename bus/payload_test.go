@@ -4,6 +4,7 @@ import (
 	"bytes"
 	"encoding/json"
 	"math"
+	"reflect"
 	"strings"
 	"testing"
 
@@ -347,5 +348,41 @@ func FuzzDecodeRobot(f *testing.F) {
 			}
 		}
 		PolicyRobot(&st)
+	})
+}
+
+// FuzzDecodeAdvisory: the decoders consumers use for advisories and status
+// never panic; what they accept encodes back to a payload that decodes to
+// the same value.
+func FuzzDecodeAdvisory(f *testing.F) {
+	pa := policy.Advisory{T: 12.5, Seq: 3, Level: policy.LevelReduce, Scale: 0.5, Horizon: 0.5, Reasons: []policy.Reason{
+		{Track: "op1/right", Zone: "pallet-a", Rule: "approach", Level: policy.LevelReduce, Scale: 0.5, HasEntry: true, TimeToEntry: 0.21, Separation: 0.4}}}
+	a := FromPolicy("pl3-palletiser", &pa)
+	b, _ := EncodeAdvisory(&a)
+	f.Add(b)
+	st, _ := EncodeStatus(&Status{Cell: "pl3-palletiser", State: StateOffline, Version: "0.1.0", ConfigDigest: "9f2c", Since: "2025-03-04T07:12:09Z", AdvisoryOnly: safety.Short})
+	f.Add(st)
+	f.Add([]byte(`{"v":1,"cell":"c","t":1,"seq":1,"level":"hold","scale":0,"horizon":0.5,"advisory_only":"x","reasons":[{}]}`))
+	f.Fuzz(func(t *testing.T, p []byte) {
+		if a, err := DecodeAdvisory(p); err == nil {
+			b, err := EncodeAdvisory(&a)
+			if err != nil {
+				t.Fatal(err)
+			}
+			back, err := DecodeAdvisory(b)
+			if err != nil {
+				t.Fatalf("re-encoded advisory does not decode: %v\n%s", err, b)
+			}
+			if !reflect.DeepEqual(back, a) {
+				t.Fatalf("advisory changed in a round trip:\n%+v\n%+v", a, back)
+			}
+		}
+		if s, err := DecodeStatus(p); err == nil {
+			b, _ := EncodeStatus(&s)
+			back, err := DecodeStatus(b)
+			if err != nil || back != s {
+				t.Fatalf("status changed in a round trip: %+v %+v %v", s, back, err)
+			}
+		}
 	})
 }

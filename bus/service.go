@@ -129,6 +129,7 @@ type Service struct {
 	online     []byte
 	statusTime string
 	connected  atomic.Bool
+	closing    atomic.Bool
 	heartbeat  atomic.Int64 // unix nanoseconds of the loop's latest turn
 
 	cmu      sync.Mutex
@@ -309,6 +310,9 @@ func (s *Service) Topics() (samples, robot, advisory, state, status string) {
 // subscribes, marks the service online and republishes the current
 // advisory on both advisory topics.
 func (s *Service) onConnect(c mqtt.Client) {
+	if s.closing.Load() {
+		return
+	}
 	for _, sub := range []struct {
 		topic string
 		robot bool
@@ -388,31 +392,45 @@ func (s *Service) Run(ctx context.Context) error {
 
 func (s *Service) stop() error {
 	s.log.Info("stopping: marking the service offline")
-	if s.connected.Load() {
-		offline, _ := EncodeStatus(&Status{Cell: s.cell, State: StateOffline, Version: s.o.Version,
-			ConfigDigest: s.o.Config.Digest, Since: s.now().UTC().Format(time.RFC3339Nano), AdvisoryOnly: safety.Short})
-		s.pubMu.Lock()
-		t := s.client.Publish(s.topicStatus, 1, true, offline)
-		s.pubMu.Unlock()
-		t.WaitTimeout(2 * time.Second)
-	}
-	// Unsubscribe first so that nothing new arrives, then take in what
-	// had arrived.
-	if s.connected.Load() {
-		t := s.client.Unsubscribe(s.topicSamples, s.topicRobot)
-		t.WaitTimeout(2 * time.Second)
-	}
-	for {
+	// Advisories from here on are recorded, not published: consumers have
+	// been told that the service is offline.
+	s.closing.Store(true)
+	// The MQTT side winds down on its own goroutine, while this one keeps
+	// taking in what paho hands over (a callback blocked on a full queue
+	// would otherwise hold up the acknowledgements waited for here).
+	disconnected := make(chan struct{})
+	go func() {
+		defer close(disconnected)
+		if s.connected.Load() {
+			offline, _ := EncodeStatus(&Status{Cell: s.cell, State: StateOffline, Version: s.o.Version,
+				ConfigDigest: s.o.Config.Digest, Since: s.now().UTC().Format(time.RFC3339Nano), AdvisoryOnly: safety.Short})
+			s.pubMu.Lock()
+			t := s.client.Publish(s.topicStatus, 1, true, offline)
+			s.pubMu.Unlock()
+			t.WaitTimeout(2 * time.Second)
+			// Unsubscribe so that nothing new arrives.
+			s.client.Unsubscribe(s.topicSamples, s.topicRobot).WaitTimeout(2 * time.Second)
+		}
+		s.client.Disconnect(500)
+	}()
+	for waiting := true; waiting; {
 		select {
 		case m := <-s.in:
 			s.handle(m)
-			continue
-		default:
+		case <-disconnected:
+			waiting = false
 		}
-		break
+	}
+	for drained := false; !drained; {
+		select {
+		case m := <-s.in:
+			s.handle(m)
+		default:
+			drained = true
+		}
 	}
 	close(s.done)
-	s.client.Disconnect(500)
+	s.connected.Store(false)
 	s.eng.Flush()
 	s.drainEvents(nil, nil)
 	if s.rec != nil {
@@ -651,7 +669,7 @@ func (s *Service) publish(a *Advisory) {
 	}
 	s.pubMu.Lock()
 	s.lastState = payload
-	if s.connected.Load() {
+	if s.connected.Load() && !s.closing.Load() {
 		s.client.Publish(s.topicAdvisory, 1, false, payload)
 		s.client.Publish(s.topicState, 1, true, payload)
 	}
