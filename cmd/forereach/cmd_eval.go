@@ -177,7 +177,7 @@ func groupFiles(files []forecast.FitFile, how string) error {
 
 // readRecordings reads every file as tracks. Bad rows are reported on
 // stderr and skipped; a file that cannot be read is a fatal error.
-func readRecordings(paths []string, opt bus.OpenOptions, stderr io.Writer, prog *progress) ([]forecast.FitFile, error) {
+func readRecordings(paths []string, opt bus.OpenOptions, stderr io.Writer, prog *stderrProgress) ([]forecast.FitFile, error) {
 	var files []forecast.FitFile
 	for i, p := range paths {
 		prog.show("reading", i, len(paths))
@@ -203,20 +203,20 @@ func readRecordings(paths []string, opt bus.OpenOptions, stderr io.Writer, prog 
 	return files, nil
 }
 
-// progress shows a one-line progress indicator on stderr when it is a
+// stderrProgress shows a one-line progress indicator on stderr when it is a
 // terminal, and nothing otherwise.
-type progress struct {
+type stderrProgress struct {
 	w    io.Writer
 	on   bool
 	last time.Time
 }
 
-func newProgress(stderr io.Writer) *progress {
+func newStderrProgress(stderr io.Writer) *stderrProgress {
 	f, ok := stderr.(*os.File)
-	return &progress{w: stderr, on: ok && term.IsTerminal(int(f.Fd()))}
+	return &stderrProgress{w: stderr, on: ok && term.IsTerminal(int(f.Fd()))}
 }
 
-func (p *progress) show(stage string, done, total int) {
+func (p *stderrProgress) show(stage string, done, total int) {
 	if !p.on || time.Since(p.last) < 100*time.Millisecond && done < total {
 		return
 	}
@@ -224,7 +224,7 @@ func (p *progress) show(stage string, done, total int) {
 	fmt.Fprintf(p.w, "\r\033[K%s: %d/%d", stage, done, total)
 }
 
-func (p *progress) done() {
+func (p *stderrProgress) done() {
 	if p.on {
 		fmt.Fprint(p.w, "\r\033[K")
 	}
@@ -278,7 +278,7 @@ func runEval(args []string, stdout, stderr io.Writer) int {
 			return fail(err)
 		}
 	}
-	prog := newProgress(stderr)
+	prog := newStderrProgress(stderr)
 	files, err := readRecordings(paths, opt, stderr, prog)
 	if err != nil {
 		return fail(err)
@@ -296,7 +296,7 @@ func runEval(args []string, stdout, stderr io.Writer) int {
 		sc := forecast.NewScorer(hs)
 		mg := gains
 		if m.set.Kind == forecast.KindFitted && gains == nil {
-			if groups(files) >= 2 {
+			if countGroups(files) >= 2 {
 				g, err := crossValidate(files, hs, eo, m.name, stderr, prog)
 				if err != nil {
 					return fail(err)
@@ -338,7 +338,7 @@ func runEval(args []string, stdout, stderr io.Writer) int {
 		if errorsFigure == nil {
 			return fail(errors.New("--plot: this build of forereach has no figure support (build with -tags report)"))
 		}
-		if err := writeFile(*plotPath, func(w io.Writer) error {
+		if err := createWith(*plotPath, func(w io.Writer) error {
 			return errorsFigure(w, rows, fmt.Sprintf("Forecast error by horizon (%d files)", len(files)))
 		}); err != nil {
 			return fail(err)
@@ -360,8 +360,8 @@ func runEval(args []string, stdout, stderr io.Writer) int {
 	return 0
 }
 
-// groups returns the number of cross-validation groups among files.
-func groups(files []forecast.FitFile) int {
+// countGroups returns the number of cross-validation groups among files.
+func countGroups(files []forecast.FitFile) int {
 	seen := map[string]bool{}
 	for _, f := range files {
 		seen[f.Group] = true
@@ -386,7 +386,7 @@ func fittedOn(g *forecast.Gains, files []forecast.FitFile) string {
 
 // crossValidate fits the fitted model on files and returns the errors of
 // every group under gains fitted without it.
-func crossValidate(files []forecast.FitFile, hs []float64, eo forecast.EvalOptions, name string, stderr io.Writer, prog *progress) (*forecast.Scorer, error) {
+func crossValidate(files []forecast.FitFile, hs []float64, eo forecast.EvalOptions, name string, stderr io.Writer, prog *stderrProgress) (*forecast.Scorer, error) {
 	// A forecast at horizon h with lead L is a forecast at lead L+h: fit the
 	// leads, then label the rows with the horizons.
 	leads := make([]float64, len(hs))
@@ -418,9 +418,9 @@ func loadGains(path string) (*forecast.Gains, error) {
 	return forecast.ReadGains(f, path)
 }
 
-// writeFile writes a file through fn ("-": standard output is not allowed
-// here; figures go to files).
-func writeFile(path string, fn func(io.Writer) error) (err error) {
+// createWith creates path and writes it through fn (figures and gains go to
+// files).
+func createWith(path string, fn func(io.Writer) error) (err error) {
 	f, err := os.Create(path)
 	if err != nil {
 		return err

@@ -92,7 +92,7 @@ func runFit(args []string, stdout, stderr io.Writer) int {
 	if *date == "" {
 		*date = time.Now().UTC().Format("2006-01-02")
 	}
-	prog := newProgress(stderr)
+	prog := newStderrProgress(stderr)
 	files, err := readRecordings(paths, opt, stderr, prog)
 	if err != nil {
 		return fail(err)
@@ -115,7 +115,7 @@ func runFit(args []string, stdout, stderr io.Writer) int {
 		if err := forecast.WriteGains(stdout, res.Gains); err != nil {
 			return fail(err)
 		}
-	} else if err := writeFile(*out, func(w io.Writer) error { return forecast.WriteGains(w, res.Gains) }); err != nil {
+	} else if err := createWith(*out, func(w io.Writer) error { return forecast.WriteGains(w, res.Gains) }); err != nil {
 		return fail(err)
 	}
 	fmt.Fprintf(summary, "fitted %s on %d files in %d groups (%s); cross-validated errors:\n",
