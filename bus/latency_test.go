@@ -3,12 +3,19 @@ package bus
 import (
 	"context"
 	"fmt"
+	"io"
+	"log/slog"
+	"math"
 	"net"
 	"os"
 	"os/exec"
 	"path/filepath"
 	"testing"
 	"time"
+
+	"forereach/forecast"
+
+	"gonum.org/v1/gonum/spatial/r3"
 )
 
 // The harness itself, through the embedded broker at a gentle rate: both
@@ -110,4 +117,53 @@ func BenchmarkLatencyMosquitto(b *testing.B) {
 	b.ReportMetric(ms(res.Echo.P99), "echo-p99-ms")
 	b.ReportMetric(float64(res.Advisory.N), "advisories")
 	b.ReportMetric(res.Rate, "samples/s")
+}
+
+// BenchmarkServiceHandle is the service's work per sample message without
+// the network: decoding, the engine (the example cell's ten zones and
+// forecast model), recording, metrics.
+func BenchmarkServiceHandle(b *testing.B) {
+	cfg := loadCell(b, nil)
+	eng, err := NewEngine(cfg)
+	if err != nil {
+		b.Fatal(err)
+	}
+	rec, _ := NewRecorder(io.Discard, Header{Cell: cfg.Cell})
+	svc, err := NewService(ServiceOptions{Config: cfg, Engine: eng, Recorder: rec, Metrics: NewMetrics(),
+		Logger: slog.New(slog.DiscardHandler)})
+	if err != nil {
+		b.Fatal(err)
+	}
+	const n = 4096
+	payloads := make([][]byte, n)
+	t0 := 1741072329.0
+	for i := range payloads {
+		tt := float64(i) * 0.002
+		s := SampleRecord{Sample: forecast.Sample{Track: "op1/right", T: t0 + tt,
+			P: r3.Vec{X: 1.5 + 0.3*math.Sin(2*math.Pi*tt), Y: 0.8, Z: 1.0}}}
+		payloads[i] = EncodeSample(nil, &s)
+	}
+	arrival := time.Unix(1741072330, 0)
+	b.ReportAllocs()
+	i := 0
+	for b.Loop() {
+		if i == n {
+			// Start the track again later on the same time axis.
+			b.StopTimer()
+			t0 += float64(n)*0.002 + 1
+			for k := range payloads {
+				tt := float64(k) * 0.002
+				s := SampleRecord{Sample: forecast.Sample{Track: "op1/right", T: t0 + tt,
+					P: r3.Vec{X: 1.5 + 0.3*math.Sin(2*math.Pi*tt), Y: 0.8, Z: 1.0}}}
+				payloads[k] = EncodeSample(payloads[k][:0], &s)
+			}
+			i = 0
+			b.StartTimer()
+		}
+		svc.handle(inMsg{topic: "forereach/pl3-palletiser/hands", payload: payloads[i], arrival: arrival})
+		i++
+	}
+	if c := svc.Counters(); c.RejectedTotal() != 0 {
+		b.Fatalf("rejected %v", c.Rejected)
+	}
 }
