@@ -148,8 +148,8 @@ type Status struct {
 	State        string `json:"state"` // "online" or "offline"
 	Version      string `json:"version"`
 	ConfigDigest string `json:"config_digest"`
-	// Since is when the state began (RFC 3339, UTC); for the last will the
-	// time the service connected.
+	// Since is when the service instance started (RFC 3339, UTC); for an
+	// orderly stop, when it stopped.
 	Since        string `json:"since"`
 	AdvisoryOnly string `json:"advisory_only"`
 }
