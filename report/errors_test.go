@@ -1,5 +1,3 @@
-//go:build report
-
 package report
 
 import (

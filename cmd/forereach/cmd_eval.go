@@ -17,12 +17,8 @@ import (
 
 	"forereach/bus"
 	"forereach/forecast"
+	"forereach/report"
 )
-
-// errorsFigure draws the --plot figure; it is set by cmd_eval_plot.go in
-// builds that include package report (build tag "report" while that package
-// is guarded by it).
-var errorsFigure func(w io.Writer, rows []forecast.ErrorStats, title string) error
 
 func init() {
 	register(&command{
@@ -335,11 +331,8 @@ func runEval(args []string, stdout, stderr io.Writer) int {
 		rows = append(rows, sc.Stats(m.name)...)
 	}
 	if *plotPath != "" {
-		if errorsFigure == nil {
-			return fail(errors.New("--plot: this build of forereach has no figure support (build with -tags report)"))
-		}
 		if err := createWith(*plotPath, func(w io.Writer) error {
-			return errorsFigure(w, rows, fmt.Sprintf("Forecast error by horizon (%d files)", len(files)))
+			return report.ErrorsFigure(w, rows, report.ErrorsOptions{Title: fmt.Sprintf("Forecast error by horizon (%d files)", len(files))})
 		}); err != nil {
 			return fail(err)
 		}

@@ -193,3 +193,17 @@ func TestForecastConfigDefaultsAgree(t *testing.T) {
 		t.Errorf("default model: %v", err)
 	}
 }
+
+func TestEvalPlot(t *testing.T) {
+	dir := t.TempDir()
+	f := writeLineCSV(t, dir, "op1_take1.csv", 0.8, 2, "")
+	svg := filepath.Join(dir, "errors.svg")
+	code, _, errs := runForecastCmd("eval", "--model", "hold,cv", "--plot", svg, f)
+	if code != 0 {
+		t.Fatalf("exit %d: %s", code, errs)
+	}
+	b, err := os.ReadFile(svg)
+	if err != nil || !bytes.Contains(b, []byte("<svg")) || !bytes.Contains(b, []byte(">hold<")) {
+		t.Fatalf("figure: %v %.200s", err, b)
+	}
+}
