@@ -26,7 +26,10 @@ type FitOptions struct {
 	Ridge float64
 	// Levels are the coverage levels of the recorded radius quantiles
 	// (default DefaultLevels).
-	Levels   []float64
+	Levels []float64
+	// Coverage is the radius coverage the cross-validated scores use
+	// (default DefaultCoverage); it must be within Levels.
+	Coverage float64
 	GapReset float64 // seconds; <= 0: DefaultGapReset
 	Warmup   float64 // seconds; <= 0: DefaultWarmup
 	// Date, Tool and Credit are copied into the provenance.
@@ -128,6 +131,12 @@ func Fit(files []FitFile, opt FitOptions) (*FitResult, error) {
 	}
 	if len(opt.Levels) == 0 {
 		opt.Levels = DefaultLevels
+	}
+	if opt.Coverage == 0 {
+		opt.Coverage = DefaultCoverage
+	}
+	if _, err := interpQuantile(opt.Levels, opt.Levels, opt.Coverage); err != nil {
+		return nil, fmt.Errorf("coverage: %v", err)
 	}
 	gi := map[string]int{}
 	var groups []string
@@ -354,7 +363,7 @@ func Fit(files []FitFile, opt FitOptions) (*FitResult, error) {
 	done := 0
 	for _, file := range files {
 		g := file.Group
-		m, err := newFittedModel(res.Folds[g], DefaultCoverage)
+		m, err := newFittedModel(res.Folds[g], opt.Coverage)
 		if err != nil {
 			return nil, err
 		}

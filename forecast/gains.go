@@ -67,7 +67,7 @@ type CVStats struct {
 	P90      float64 `yaml:"p90_m"`
 	P95      float64 `yaml:"p95_m"`
 	P99      float64 `yaml:"p99_m"`
-	Coverage float64 `yaml:"coverage"` // of the radius at the default coverage
+	Coverage float64 `yaml:"coverage"` // of the radius at the coverage of the fit (default 0.95)
 }
 
 // maxGain bounds every number of a gains file: fitted values are of order 1,

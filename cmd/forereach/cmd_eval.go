@@ -50,6 +50,9 @@ they are (FILES are then new data).
   --horizons LIST  horizons, whole milliseconds (default 100ms,200ms,300ms)
   --latency D      input latency to compensate: forecasts refer to D after
                    each sample (default 0)
+  --coverage P     the probability the uncertainty radius of kalman-cv,
+                   kalman-ca and fitted is meant to cover (default 0.95;
+                   fitted: between 0.5 and 0.99)
   --folds HOW      cross-validation groups for the fitted model: prefix (the
                    file name up to its first "_", e.g. one group per person
                    for files named <person>_<take>.csv; the default), file
@@ -234,6 +237,7 @@ func runEval(args []string, stdout, stderr io.Writer) int {
 	gainsPath := fs.String("gains", "", "gains file of the fitted model")
 	horizonList := fs.String("horizons", "100ms,200ms,300ms", "horizons")
 	latency := fs.Duration("latency", 0, "input latency to compensate")
+	coverage := fs.Float64("coverage", forecast.DefaultCoverage, "radius coverage")
 	folds := fs.String("folds", "prefix", "cross-validation groups: prefix, file or N")
 	gap := fs.Duration("gap", 250*time.Millisecond, "gap that resets a track")
 	asJSON := fs.Bool("json", false, "print one JSON object")
@@ -264,6 +268,12 @@ func runEval(args []string, stdout, stderr io.Writer) int {
 	if *latency < 0 || *latency%time.Millisecond != 0 || *gap <= 0 {
 		return usageErr(errors.New("--latency must be a whole number of milliseconds >= 0, and --gap > 0"))
 	}
+	if !(*coverage > 0 && *coverage < 1) {
+		return usageErr(fmt.Errorf("--coverage: %g: must be between 0 and 1", *coverage))
+	}
+	for i := range models {
+		models[i].set.Coverage = *coverage
+	}
 	opt, err := rec.options()
 	if err != nil {
 		return usageErr(err)
@@ -293,7 +303,7 @@ func runEval(args []string, stdout, stderr io.Writer) int {
 		mg := gains
 		if m.set.Kind == forecast.KindFitted && gains == nil {
 			if countGroups(files) >= 2 {
-				g, err := crossValidate(files, hs, eo, m.name, stderr, prog)
+				g, err := crossValidate(files, hs, eo, *coverage, m.name, stderr, prog)
 				if err != nil {
 					return fail(err)
 				}
@@ -379,7 +389,7 @@ func fittedOn(g *forecast.Gains, files []forecast.FitFile) string {
 
 // crossValidate fits the fitted model on files and returns the errors of
 // every group under gains fitted without it.
-func crossValidate(files []forecast.FitFile, hs []float64, eo forecast.EvalOptions, name string, stderr io.Writer, prog *stderrProgress) (*forecast.Scorer, error) {
+func crossValidate(files []forecast.FitFile, hs []float64, eo forecast.EvalOptions, coverage float64, name string, stderr io.Writer, prog *stderrProgress) (*forecast.Scorer, error) {
 	// A forecast at horizon h with lead L is a forecast at lead L+h: fit the
 	// leads, then label the rows with the horizons.
 	leads := make([]float64, len(hs))
@@ -387,12 +397,12 @@ func crossValidate(files []forecast.FitFile, hs []float64, eo forecast.EvalOptio
 		leads[i] = h + eo.Lead
 	}
 	res, err := forecast.Fit(files, forecast.FitOptions{
-		Horizons: leads, GapReset: eo.GapReset,
+		Horizons: leads, GapReset: eo.GapReset, Coverage: coverage,
 		Progress: func(stage string, done, total int) { prog.show(name+": "+stage, done, total) },
 	})
 	prog.done()
 	if err != nil {
-		return nil, fmt.Errorf("%s: %v (use --gains to score a fitted gains file, or --folds)", name, err)
+		return nil, fmt.Errorf("%s: %v", name, err)
 	}
 	sc := res.CVScorer()
 	copy(sc.Horizons, hs)
