@@ -8,6 +8,7 @@ import (
 	"regexp"
 	"strings"
 	"testing"
+	"time"
 
 	"forereach/bus"
 	"forereach/safety"
@@ -116,5 +117,36 @@ func TestDemoUsage(t *testing.T) {
 		if code != c.code || !strings.Contains(errb.String(), c.want) {
 			t.Errorf("%v: exit %d, stderr %q; want %d and %q", c.args, code, errb.String(), c.code, c.want)
 		}
+	}
+}
+
+// Ctrl-C ends the demo early, cleanly, with the recording left behind.
+func TestDemoInterrupt(t *testing.T) {
+	dir := t.TempDir()
+	d := startService(t, "demo", "-c", "../../testdata/pl3-palletiser.yaml", "--scenario", "builtin",
+		"--duration", "60s", "--record", dir)
+	deadline := time.Now().Add(20 * time.Second)
+	for !strings.Contains(d.stderr.String(), "time  level") {
+		if time.Now().After(deadline) {
+			t.Fatal("the demo did not start within 20 s")
+		}
+		time.Sleep(20 * time.Millisecond)
+	}
+	time.Sleep(1500 * time.Millisecond)
+	d.cmd.Process.Signal(os.Interrupt)
+	select {
+	case <-d.done:
+	case <-time.After(15 * time.Second):
+		t.Fatal("the demo did not stop within 15 s of the interrupt")
+	}
+	if d.err != nil {
+		t.Fatalf("exit after the interrupt: %v\n%s", d.err, d.stderr.String())
+	}
+	rec := readRecording(t, dir)
+	if len(rec[bus.KindSample]) < 50 {
+		t.Errorf("%d samples recorded in 1.5 s", len(rec[bus.KindSample]))
+	}
+	if !strings.Contains(d.stderr.String(), "recording: "+dir) {
+		t.Errorf("the demo does not say where the recording is:\n%s", d.stderr.String())
 	}
 }
