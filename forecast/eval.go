@@ -74,7 +74,8 @@ type Scorer struct {
 }
 
 type horizonAcc struct {
-	errs    []float64
+	errs    []float32 // for quantiles; float32 halves the memory of long runs
+	sum     float64
 	sse     float64
 	sumD    r3.Vec
 	sumD2   float64
@@ -91,7 +92,8 @@ func NewScorer(horizons []float64) *Scorer {
 func (s *Scorer) Add(k int, pred, truth r3.Vec, radius float64) {
 	a := &s.acc[k]
 	e := r3.Norm(r3.Sub(pred, truth))
-	a.errs = append(a.errs, e)
+	a.errs = append(a.errs, float32(e))
+	a.sum += e
 	a.sse += e * e
 	a.sumD = r3.Add(a.sumD, truth)
 	a.sumD2 += r3.Norm2(truth)
@@ -105,6 +107,7 @@ func (s *Scorer) Merge(o *Scorer) {
 	for k := range s.acc {
 		a, b := &s.acc[k], &o.acc[k]
 		a.errs = append(a.errs, b.errs...)
+		a.sum += b.sum
 		a.sse += b.sse
 		a.sumD = r3.Add(a.sumD, b.sumD)
 		a.sumD2 += b.sumD2
@@ -112,8 +115,15 @@ func (s *Scorer) Merge(o *Scorer) {
 	}
 }
 
-// Errors returns the recorded 3D errors at horizon index k (not a copy).
-func (s *Scorer) Errors(k int) []float64 { return s.acc[k].errs }
+// Errors returns the recorded 3D errors at horizon index k, in the order
+// they were added (stored in single precision).
+func (s *Scorer) Errors(k int) []float64 {
+	out := make([]float64, len(s.acc[k].errs))
+	for i, e := range s.acc[k].errs {
+		out[i] = float64(e)
+	}
+	return out
+}
 
 // Stats returns one row per horizon.
 func (s *Scorer) Stats(model string) []ErrorStats {
@@ -122,10 +132,10 @@ func (s *Scorer) Stats(model string) []ErrorStats {
 		a := &s.acc[k]
 		r := ErrorStats{Model: model, HorizonMS: math.Round(h*1e6) / 1e3, Samples: len(a.errs)}
 		if n := float64(len(a.errs)); n > 0 {
-			sorted := append([]float64(nil), a.errs...)
+			sorted := s.Errors(k)
 			sort.Float64s(sorted)
 			r.RMSE = math.Sqrt(a.sse / n)
-			r.Mean = stat.Mean(sorted, nil)
+			r.Mean = a.sum / n
 			r.P50 = stat.Quantile(0.50, stat.Empirical, sorted, nil)
 			r.P90 = stat.Quantile(0.90, stat.Empirical, sorted, nil)
 			r.P95 = stat.Quantile(0.95, stat.Empirical, sorted, nil)

@@ -38,6 +38,10 @@ type FitOptions struct {
 	Progress func(stage string, done, total int)
 }
 
+// maxQuantileSamples bounds the normalised errors kept per horizon for the
+// radius quantiles.
+const maxQuantileSamples = 250000
+
 // scaleRounds is the number of rounds of the radius scale regression.
 var scaleRounds = 2
 
@@ -317,16 +321,37 @@ func Fit(files []FitFile, opt FitOptions) (*FitResult, error) {
 		scale = next
 	}
 	// Pass 3: normalised out-of-fold errors and their quantiles.
+	// At most maxQuantileSamples per target and horizon are kept (every
+	// stride-th example), which bounds memory on long recordings.
 	zs := make([][][]float64, G+1)
+	stride := make([][]int, G+1)
+	seen := make([][]int, G+1)
 	for t := range zs {
 		zs[t] = make([][]float64, H)
+		stride[t] = make([]int, H)
+		seen[t] = make([]int, H)
+		for k := 0; k < H; k++ {
+			n := 0
+			for g := 0; g < G; g++ {
+				if g != t {
+					n += acc[g][k].n
+				}
+			}
+			stride[t][k] = 1 + (n-1)/maxQuantileSamples
+		}
+	}
+	keep := func(t, k int, z float64) {
+		if seen[t][k]%stride[t][k] == 0 {
+			zs[t][k] = append(zs[t][k], z)
+		}
+		seen[t][k]++
 	}
 	if err := walk("radius quantiles", func(j, k int, ks *kinState, f *[NumFeatures]r3.Vec, d r3.Vec) {
 		ks.scaleTerms(opt.Horizons[k], &s)
-		zs[G][k] = append(zs[G][k], resid(&ex1[j][k], f, d)/sigma(&scale[G][k], &s))
+		keep(G, k, resid(&ex1[j][k], f, d)/sigma(&scale[G][k], &s))
 		for g := 0; g < G; g++ {
 			if g != j {
-				zs[g][k] = append(zs[g][k], resid(&ex2[j][g][k], f, d)/sigma(&scale[g][k], &s))
+				keep(g, k, resid(&ex2[j][g][k], f, d)/sigma(&scale[g][k], &s))
 			}
 		}
 	}); err != nil {
