@@ -1,3 +1,5 @@
+//go:build !promclient
+
 package bus
 
 import (
@@ -14,7 +16,10 @@ import (
 )
 
 // Metrics are the live service's metrics, served in the Prometheus text
-// exposition format (version 0.0.4). Names:
+// exposition format (version 0.0.4). This implementation stands in for
+// github.com/prometheus/client_golang (metrics_prom.go, build tag
+// promclient) while go.sum lacks that module's dependencies; both give the
+// same names and values. Names:
 //
 //	forereach_samples_total                      accepted hand samples
 //	forereach_rejected_total{reason}             refused samples and messages
