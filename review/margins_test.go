@@ -17,7 +17,7 @@ import (
 // sweepCell is the example cell with the single advisory rule the margin
 // sweep models: reduce when the forecast path (radius and margin included)
 // touches the zone within the horizon the cell needs, H = stopping time +
-// system latency = 0.6 s + 60 ms; the forecast spans exactly H with no
+// system latency = 0.3 s + 60 ms; the forecast spans exactly H with no
 // latency lead. The robot's speed is cleared so that the protective
 // separation rule (a hold the sweep does not model) stays out. The model is
 // the constant-velocity extrapolation (radius 0): with the cell's
@@ -28,7 +28,7 @@ func sweepCell(t testing.TB) *zones.Config {
 	cfg := exampleCell(t)
 	cfg.Forecast.Model = forecast.KindCV
 	h := cfg.Robot.StoppingTime + cfg.Robot.SystemLatency
-	if h != zones.Duration(660e6) {
+	if h != zones.Duration(360e6) {
 		t.Fatalf("example cell changed: horizon %v", h)
 	}
 	cfg.Policy.Rules = []zones.RuleConfig{{Name: "warn", Level: "reduce", Scale: 0.5, EntryWithin: h}}

@@ -11,7 +11,7 @@ import (
 func ModelSettings(fc *zones.ForecastConfig, gains *forecast.Gains) forecast.Settings {
 	kind := fc.Model
 	if kind == "" {
-		kind = forecast.KindKalmanCV
+		kind = forecast.KindFitted
 	}
 	return forecast.Settings{
 		Kind:             kind,

@@ -65,11 +65,11 @@ func TestMarginReferences(t *testing.T) {
 	}
 
 	// ISO/TS 15066 with the example cell's stopping data: vh = 1.6 m/s
-	// (ISO 13855 walking speed), vr = 2.0 m/s, Tr = reaction time 100 ms +
-	// system latency 60 ms = 0.16 s, Ts = 0.6 s, Ss = 0.55 m (given),
-	// C = 0.208 m, Zd = 0.05 m, Zr = 0.02 m:
-	//   Sh = 1.6·(0.16 + 0.6) = 1.216 m, Sr = 2.0·0.16 = 0.32 m,
-	//   Sp = 1.216 + 0.32 + 0.55 + 0.208 + 0.05 + 0.02 = 2.364 m.
+	// (ISO 13855 walking speed), vr = 1.0 m/s, Tr = reaction time 100 ms +
+	// system latency 60 ms = 0.16 s, Ts = 0.3 s, Ss = 0.20 m (given),
+	// C = 0 m, Zd = 0.05 m, Zr = 0.02 m:
+	//   Sh = 1.6·(0.16 + 0.3) = 0.736 m, Sr = 1.0·0.16 = 0.16 m,
+	//   Sp = 0.736 + 0.16 + 0.20 + 0 + 0.05 + 0.02 = 1.166 m.
 	cfg := exampleCell(t)
 	m, err := NewMargins(cfg, model, MarginOptions{})
 	if err != nil {
@@ -77,13 +77,13 @@ func TestMarginReferences(t *testing.T) {
 	}
 	res := m.Result()
 	sp := res.References.Separation
-	if sp == nil || math.Abs(sp.Sp-2.364) > 1e-9 || math.Abs(sp.Sh-1.216) > 1e-9 || math.Abs(sp.Sr-0.32) > 1e-9 {
-		t.Errorf("ISO/TS 15066: got %+v, want Sp 2.364 m (Sh 1.216, Sr 0.32)", sp)
+	if sp == nil || math.Abs(sp.Sp-1.166) > 1e-9 || math.Abs(sp.Sh-0.736) > 1e-9 || math.Abs(sp.Sr-0.16) > 1e-9 {
+		t.Errorf("ISO/TS 15066: got %+v, want Sp 1.166 m (Sh 0.736, Sr 0.16)", sp)
 	}
-	// The same cell for ISO 13855: T = 0.6 + 0.06 = 0.66 s, d = 40 mm:
-	// 2000·0.66 + 208 = 1528 mm > 500 → 1600·0.66 + 208 = 1264 mm.
-	if md := res.References.MinDistance; md == nil || math.Abs(*md-1.264) > 1e-9 {
-		t.Errorf("ISO 13855 for the example cell: got %v, want 1.264 m", md)
+	// The same cell for ISO 13855: T = 0.3 + 0.06 = 0.36 s, d = 14 mm,
+	// so C = 8·(14 − 14) = 0: 2000·0.36 = 720 mm > 500 → 1600·0.36 = 576 mm.
+	if md := res.References.MinDistance; md == nil || math.Abs(*md-0.576) > 1e-9 {
+		t.Errorf("ISO 13855 for the example cell: got %v, want 0.576 m", md)
 	}
 	// Without stopping speed nor distance: no protective separation
 	// distance, and the reason says so.

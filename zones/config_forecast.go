@@ -11,7 +11,7 @@ import (
 // a test in cmd/forereach checks that the two agree.
 type ForecastConfig struct {
 	// Model: "hold", "cv", "ca", "kalman-cv", "kalman-ca" or "fitted"
-	// (default kalman-cv). The fitted model scores best on the recorded
+	// (default fitted). The fitted model scores best on the recorded
 	// wrists forereach was tuned on (see `forereach eval`).
 	Model string `yaml:"model"`
 	// Gains is the gains file for the fitted model (relative to the config
@@ -45,7 +45,7 @@ type ForecastConfig struct {
 
 // Forecast defaults (the same values as package forecast's).
 const (
-	DefaultForecastModel     = "kalman-cv"
+	DefaultForecastModel     = "fitted"
 	DefaultForecastStep      = 20 * time.Millisecond
 	DefaultForecastHorizon   = 500 * time.Millisecond
 	DefaultForecastGapReset  = 250 * time.Millisecond

@@ -18,7 +18,7 @@ func TestForecastDefaultsAndUnits(t *testing.T) {
 		t.Fatal(err)
 	}
 	f := cfg.Forecast
-	if f.Model != "kalman-cv" || time.Duration(f.Step) != 20*time.Millisecond || time.Duration(f.Horizon) != 500*time.Millisecond ||
+	if f.Model != "fitted" || time.Duration(f.Step) != 20*time.Millisecond || time.Duration(f.Horizon) != 500*time.Millisecond ||
 		time.Duration(f.GapReset) != 250*time.Millisecond || f.MeasurementNoise != 0.002 || f.ProcessNoise != 30 || f.Coverage != 0.95 {
 		t.Errorf("defaults %+v", f)
 	}

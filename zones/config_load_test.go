@@ -296,7 +296,7 @@ func TestExampleValues(t *testing.T) {
 	if got := cfg.Zones[4].OBox.RPY; got == nil || *got != [3]float64{0, 0, -25} {
 		t.Errorf("slip-sheet-magazine rpy = %v", got)
 	}
-	if cfg.Forecast.Horizon != Duration(500*time.Millisecond) || cfg.Robot.StoppingTime != Duration(600*time.Millisecond) {
+	if cfg.Forecast.Horizon != Duration(500*time.Millisecond) || cfg.Robot.StoppingTime != Duration(300*time.Millisecond) {
 		t.Errorf("durations: horizon %v stopping_time %v", time.Duration(cfg.Forecast.Horizon), time.Duration(cfg.Robot.StoppingTime))
 	}
 	if sb := cfg.Policy.Rules[1].SepBelow; sb == nil || *sb != 0.15 {

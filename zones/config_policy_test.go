@@ -107,7 +107,7 @@ func TestPolicyDemoCell(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	if len(cfg.Policy.Rules) != 3 || cfg.Robot.StoppingDistance != 0.55 {
+	if len(cfg.Policy.Rules) != 4 || cfg.Robot.StoppingDistance != 0.20 {
 		t.Errorf("policy %+v robot %+v", cfg.Policy, cfg.Robot)
 	}
 }
