@@ -215,6 +215,7 @@ func MeasureLatency(ctx context.Context, o LatencyOptions) (*LatencyResult, erro
 	defer src.Disconnect(100)
 	const warmup = time.Second
 	start := time.Now()
+	base := float64(start.UnixNano()) / 1e9
 	end := start.Add(warmup + o.Duration)
 	tick := time.NewTicker(time.Millisecond)
 	defer tick.Stop()
@@ -239,8 +240,10 @@ loop:
 					ts = math.Nextafter(lastT, math.Inf(1))
 				}
 				lastT = ts
-				rel := at.Sub(start).Seconds()
-				p := target.at(rel)
+				// The position from the time as sent, so that the speed
+				// the engine sees between samples a microsecond apart is
+				// not skewed by the float64 rounding of Unix time.
+				p := target.at(ts - base)
 				s := SampleRecord{Sample: forecast.Sample{Track: "op1/right", T: ts, P: p}}
 				buf = EncodeSample(buf[:0], &s)
 				measured := at.Sub(start) >= warmup

@@ -113,8 +113,8 @@ func printLatency(w io.Writer, broker string, cfg *zones.Config, r *bus.LatencyR
 	if m == "" {
 		m = "kalman-cv"
 	}
-	fmt.Fprintf(w, "broker %s, cell %s (hand crossing %q), model %s: %d samples at %.0f samples/s; service: %d accepted, %d rejected, advisories %v\n",
-		broker, cfg.Cell, r.Zone, m, r.Sent, r.Rate, r.Service.Samples, r.Service.RejectedTotal(), r.Service.Advisories)
+	fmt.Fprintf(w, "broker %s, cell %s (hand crossing %q), model %s: %d samples at %.0f samples/s; service: %d accepted, %d rejected %v, advisories %v\n",
+		broker, cfg.Cell, r.Zone, m, r.Sent, r.Rate, r.Service.Samples, r.Service.RejectedTotal(), r.Service.Rejected, r.Service.Advisories)
 	tw := tabwriter.NewWriter(w, 0, 0, 2, ' ', tabwriter.AlignRight)
 	fmt.Fprintln(tw, "path\tn\tp50\tp90\tp99\tmax\tmean\t")
 	row := func(name string, s bus.LatencyStats) {
