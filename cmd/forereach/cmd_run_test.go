@@ -12,6 +12,7 @@ import (
 	"os"
 	"os/exec"
 	"path/filepath"
+	"regexp"
 	"strconv"
 	"strings"
 	"sync"
@@ -321,15 +322,16 @@ func interopCell(t *testing.T, addr, dir string) string {
 		t.Fatal(err)
 	}
 	text := string(src)
-	for old, new := range map[string]string{
-		"broker: tcp://127.0.0.1:1883": "broker: tcp://" + addr,
-		"model: kalman-cv":             "model: cv",
-		"dir: recordings":              "dir: " + filepath.Join(dir, "rec"),
+	for _, r := range []struct{ re, new string }{
+		{`(?m)^  broker: .*$`, "  broker: tcp://" + addr},
+		{`(?m)^  model: .*$`, "  model: cv"},
+		{`(?m)^    dir: .*$`, "    dir: " + filepath.Join(dir, "rec")},
 	} {
-		if !strings.Contains(text, old) {
-			t.Fatalf("example cell has no %q", old)
+		re := regexp.MustCompile(r.re)
+		if !re.MatchString(text) {
+			t.Fatalf("example cell has no line matching %s", r.re)
 		}
-		text = strings.Replace(text, old, new, 1)
+		text = re.ReplaceAllLiteralString(text, r.new)
 	}
 	path := filepath.Join(dir, "cell.yaml")
 	if err := os.WriteFile(path, []byte(text), 0o644); err != nil {
