@@ -81,6 +81,14 @@ func (q quieter) Handle(ctx context.Context, r slog.Record) error {
 	if r.Level == slog.LevelInfo || strings.HasPrefix(r.Message, "client keepalive is below minimum") {
 		r.Level = slog.LevelDebug
 	}
+	// Connections cut by the broker's own shutdown are not worth a warning.
+	r.Attrs(func(a slog.Attr) bool {
+		if strings.Contains(a.Value.String(), "use of closed network connection") {
+			r.Level = slog.LevelDebug
+			return false
+		}
+		return true
+	})
 	if !q.Handler.Enabled(ctx, r.Level) {
 		return nil
 	}

@@ -321,8 +321,10 @@ func ReasonText(r *Reason) string {
 		s += "separation " + mm(*r.Sep) + " from " + strconv.Quote(r.Zone) + " is below the protective separation distance " + mm(*r.Required)
 	case r.Sep != nil && *r.Sep <= 0:
 		s += "inside " + strconv.Quote(r.Zone)
-	case r.EntryIn != nil:
+	case r.EntryIn != nil && *r.EntryIn > 0.005:
 		s += "entry into " + strconv.Quote(r.Zone) + " forecast in " + strconv.FormatFloat(*r.EntryIn, 'f', 2, 64) + " s"
+	case r.EntryIn != nil && r.Sep != nil:
+		s += mm(*r.Sep) + " from " + strconv.Quote(r.Zone) + ", within its margin"
 	case r.Sep != nil:
 		s += mm(*r.Sep) + " from " + strconv.Quote(r.Zone)
 	default:
