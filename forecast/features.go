@@ -48,15 +48,18 @@ import (
 //
 // The uncertainty radius is z(τ)·σ(τ), with the scale σ(τ) = Σ_j b_j(τ)·s_j(τ)
 // a non-negative combination of the root-mean-square speed times τ, the
-// root-mean-square acceleration times τ²/2, and the recent change of
-// velocity (|v25 − v200|) times τ, so it shrinks for a still hand and grows
-// for a vigorous one; z(τ) is the quantile of the error divided by σ seen in
+// root-mean-square acceleration times τ²/2, the recent change of velocity
+// (|v25 − v200|) times τ, and the tracker's noise (the running RMS residual
+// of the 100 ms quadratic fit, the same at every lead), so it shrinks for a
+// still hand and grows for a vigorous one, and on a noisy tracker it does
+// not shrink below what the noise alone puts into the shortest forecasts;
+// z(τ) is the quantile of the error divided by σ seen in
 // cross-validation. The scale is fitted to the relative error (reweighted
 // least squares, see Fit), so coverage holds in slow and vigorous regimes.
 //
 // The feature set is versioned: a gains file names its set and the names of
 // its terms, and is refused when they differ from the built-in ones.
-const FeatureSet = "osc-v3"
+const FeatureSet = "osc-v4"
 
 // featureNames name the terms, in order.
 var featureNames = [...]string{
@@ -69,10 +72,10 @@ var featureNames = [...]string{
 const NumFeatures = len(featureNames)
 
 // NumScale is the number of terms of the radius scale.
-const NumScale = 3
+const NumScale = 4
 
 // scaleNames name the terms of the radius scale.
-var scaleNames = [NumScale]string{"rms(v)*t", "rms(a)*t2/2", "|v25-v200|*t"}
+var scaleNames = [NumScale]string{"rms(v)*t", "rms(a)*t2/2", "|v25-v200|*t", "noise"}
 
 const (
 	featKeep = 0.35 // seconds of history kept
@@ -117,12 +120,47 @@ type kinState struct {
 	msa    float64 // running mean square of the 200 ms quadratic fit's |a|, less noise
 	omega  float64
 	tms    float64 // time of the last running-mean update
+	wdt, w float64 // the last interval of the running means and its weight
 	misses int     // glitches in a row (see update)
 	nms    int
-	fit    polyFit
+	fits   [numWindows]polyFit
+	// fitWindowsFn, when set, replaces fitMany in fitWindows (tests put
+	// the straightforward one-fit-at-a-time computation here).
+	fitWindowsFn func() bool
+}
+
+// The local polynomial fits the state is built from, all ending at the
+// latest sample.
+const (
+	winV25  = iota // linear, 25 ms: the velocity of |v25 − v200|
+	winV200        // linear, 200 ms
+	winL100        // linear, 100 ms: v's base
+	winQ100        // quadratic, 100 ms: v's refinement, and the noise
+	winQ50         // quadratic, 50 ms: v_short's refinement
+	winQ200        // quadratic, 200 ms: the acceleration of ω
+	winC300        // cubic, 300 ms: a
+	numWindows
+)
+
+var kinWindows = [numWindows]windowSpec{
+	winV25:  {deg: 1, window: 0.025, minN: 3},
+	winV200: {deg: 1, window: 0.2, minN: 3},
+	winL100: {deg: 1, window: 0.1, minN: 3, wantVar: true},
+	winQ100: {deg: 2, window: 0.1, minN: 4, wantVar: true, wantRMS: true},
+	winQ50:  {deg: 2, window: 0.05, minN: 4, wantVar: true},
+	winQ200: {deg: 2, window: 0.2, minN: 5, wantVar: true},
+	winC300: {deg: 3, window: 0.3, minN: 6},
 }
 
 func newKinState() kinState { return kinState{h: newHistory(featKeep, 8)} }
+
+// fitWindows fits every window of kinWindows into k.fits.
+func (k *kinState) fitWindows() bool {
+	if k.fitWindowsFn != nil {
+		return k.fitWindowsFn()
+	}
+	return k.h.fitMany(kinWindows[:], k.fits[:])
+}
 
 func (k *kinState) reset() { k.h.reset(); k.ok = false; k.nms = 0; k.misses = 0 }
 
@@ -153,44 +191,29 @@ func (k *kinState) update(t float64, p r3.Vec) {
 	if k.h.n < 6 || t-t0 < minFeatureSpan {
 		return
 	}
-	f := &k.fit
-	f.WantVar = false
-	if !k.h.fit(f, 1, 0.025, 3) {
+	if !k.fitWindows() {
 		return
 	}
-	v25 := f.D[1]
-	if !k.h.fit(f, 1, 0.2, 3) {
-		return
-	}
-	k.dv = r3.Norm(r3.Sub(v25, f.D[1]))
-	f.WantVar = true
-	if !k.h.fit(f, 1, 0.1, 3) {
-		return
-	}
-	vL, varL := f.D[1], f.VarD[1]
-	if !k.h.fit(f, 2, 0.1, 4) {
-		return
-	}
-	vM, varM := f.D[1], f.VarD[1]
-	rms2 := f.RMS * f.RMS
-	if !k.h.fit(f, 2, 0.05, 4) {
-		return
-	}
-	vS, varS := f.D[1], f.VarD[1]
-	if !k.h.fit(f, 2, 0.2, 5) {
-		return
-	}
-	aq, varA := f.D[2], f.VarD[2]
-	f.WantVar = false
-	if !k.h.fit(f, 3, 0.3, 6) {
-		return
-	}
-	k.a = f.D[2]
+	fs := &k.fits
+	k.dv = r3.Norm(r3.Sub(fs[winV25].D[1], fs[winV200].D[1]))
+	vL, varL := fs[winL100].D[1], fs[winL100].VarD[1]
+	vM, varM := fs[winQ100].D[1], fs[winQ100].VarD[1]
+	rms2 := fs[winQ100].RMS * fs[winQ100].RMS
+	vS, varS := fs[winQ50].D[1], fs[winQ50].VarD[1]
+	aq, varA := fs[winQ200].D[2], fs[winQ200].VarD[2]
+	k.a = fs[winC300].D[2]
 	// Running means (time constant oscTau) of the noise variance and of
 	// the squared speed and acceleration.
 	w := 1.0
 	if k.nms > 0 {
-		w = -math.Expm1(-(t - k.tms) / oscTau)
+		// The weight depends on the interval only: at a steady rate it is
+		// the previous one.
+		if dt := t - k.tms; dt == k.wdt {
+			w = k.w
+		} else {
+			w = -math.Expm1(-dt / oscTau)
+			k.wdt, k.w = dt, w
+		}
 	}
 	k.tms = t
 	k.nms++
@@ -221,19 +244,43 @@ func shrink(d r3.Vec, v float64) float64 {
 	return math.Max(0, 1-3*v/n2)
 }
 
+// lambda is the share of the short-window velocity in osc-dv.
+func (k *kinState) lambda() float64 { return k.msa / (k.msa + blendAccel*blendAccel) }
+
 // features writes the terms at lead tau into f.
 func (k *kinState) features(tau float64, f *[NumFeatures]r3.Vec) {
 	w := k.omega
 	wt := math.Min(w*tau, math.Pi)
 	f[0] = r3.Scale(math.Sin(wt)/w, k.v)
 	f[1] = r3.Scale((1-math.Cos(wt))/(w*w), k.a)
-	lam := k.msa / (k.msa + blendAccel*blendAccel)
-	f[2] = r3.Scale(lam*math.Sin(wt)/w, r3.Sub(k.vs, k.v))
+	f[2] = r3.Scale(k.lambda()*math.Sin(wt)/w, r3.Sub(k.vs, k.v))
+}
+
+// Each radius scale term is a state factor (scaleState) times a lead
+// factor (scaleLeadFactors).
+
+// scaleState writes the state factors of the scale terms into s.
+func (k *kinState) scaleState(s *[NumScale]float64) {
+	s[0] = math.Sqrt(k.msv)
+	s[1] = math.Sqrt(k.msa)
+	s[2] = k.dv
+	s[3] = math.Sqrt(k.noise2)
+}
+
+// scaleLeadFactors writes the lead factors of the scale terms at lead tau.
+func scaleLeadFactors(tau float64, s *[NumScale]float64) {
+	s[0] = tau
+	s[1] = tau * tau / 2
+	s[2] = tau
+	s[3] = 1
 }
 
 // scaleTerms writes the radius scale terms at lead tau into s.
 func (k *kinState) scaleTerms(tau float64, s *[NumScale]float64) {
-	s[0] = math.Sqrt(k.msv) * tau
-	s[1] = math.Sqrt(k.msa) * tau * tau / 2
-	s[2] = k.dv * tau
+	var lf [NumScale]float64
+	k.scaleState(s)
+	scaleLeadFactors(tau, &lf)
+	for j := range s {
+		s[j] *= lf[j]
+	}
 }

@@ -16,9 +16,19 @@ func near(a, b r3.Vec, tol float64) bool { return r3.Norm(r3.Sub(a, b)) <= tol }
 // directory holding go.mod), skipping the test when it is absent.
 func motionDir(t testing.TB) string {
 	t.Helper()
+	m, why := findMotionDir()
+	if m == "" {
+		t.Skip(why)
+	}
+	return m
+}
+
+// findMotionDir locates ../shared/data/motion; "" and the reason when it
+// cannot.
+func findMotionDir() (string, string) {
 	dir, err := os.Getwd()
 	if err != nil {
-		t.Fatal(err)
+		return "", err.Error()
 	}
 	for {
 		if _, err := os.Stat(filepath.Join(dir, "go.mod")); err == nil {
@@ -26,13 +36,13 @@ func motionDir(t testing.TB) string {
 		}
 		up := filepath.Dir(dir)
 		if up == dir {
-			t.Skip("no go.mod above the test directory: cannot locate ../shared/data/motion")
+			return "", "no go.mod above the test directory: cannot locate ../shared/data/motion"
 		}
 		dir = up
 	}
 	m := filepath.Join(dir, "..", "shared", "data", "motion")
 	if _, err := os.Stat(filepath.Join(m, "01_02.csv")); err != nil {
-		t.Skipf("real motion data absent (%s): skipping", m)
+		return "", "real motion data absent (" + m + "): skipping"
 	}
-	return m
+	return m, ""
 }

@@ -175,8 +175,7 @@ func (f *kalmanForecaster) predictAt(tau float64) (r3.Vec, float64) {
 // sample intervals (see summedNoise).
 func (m *kalmanModel) positionNoise(T, tau float64) float64 {
 	if T > 0 && tau > T {
-		Q := m.summedNoise(T, tau/T)
-		return Q[0][0]
+		return m.summedPositionNoise(T, tau/T)
 	}
 	g := tau * tau / 2
 	if m.n == 3 {
@@ -198,12 +197,10 @@ func (f *kalmanForecaster) Predict(dst *Path, h Horizon) bool {
 	return true
 }
 
-// summedNoise returns Σ_{j=0}^{m-1} F(jT)·Q(T)·F(jT)ᵀ in closed form. The
-// components of F(jT)·Γ(T) are polynomials in j (degree <= 2), so each
-// element of the sum is a combination of the power sums Σ_{j<m} j^p, p <= 4.
-func (m *kalmanModel) summedNoise(T, steps float64) (Q mat3) {
-	// c[a][p]: coefficient of j^p in component a of F(jT)·Γ(T).
-	var c [3][3]float64
+// noiseCoefs returns c[a][p], the coefficient of j^p in component a of
+// F(jT)·Γ(T), and the power sums S[p] = Σ_{j<steps} j^p, p <= 4 (Faulhaber,
+// extended to real steps).
+func (m *kalmanModel) noiseCoefs(T, steps float64) (c [3][3]float64, S [5]float64) {
 	if m.n == 2 {
 		c[0] = [3]float64{T * T / 2, T * T, 0}
 		c[1] = [3]float64{T, 0, 0}
@@ -214,13 +211,41 @@ func (m *kalmanModel) summedNoise(T, steps float64) (Q mat3) {
 		c[2] = [3]float64{T, 0, 0}
 	}
 	x := steps
-	S := [5]float64{
+	S = [5]float64{
 		x,
 		x * (x - 1) / 2,
 		x * (x - 1) * (2*x - 1) / 6,
 		x * x * (x - 1) * (x - 1) / 4,
 		x * (x - 1) * (2*x - 1) * (3*x*x - 3*x - 1) / 30,
 	}
+	return c, S
+}
+
+// summedPositionNoise is summedNoise(T, steps)[0][0], the only element a
+// forecast needs, in closed form: with c the coefficients of component 0 of
+// F(jT)·Γ(T), Σ_j (Σ_p c_p j^p)² expanded into the power sums S_p.
+// Constant velocity: c = T²·(1/2, 1), so (1/2 + j)² = 1/4 + j + j².
+// Constant acceleration: c = T³·(1/6, 1/2, 1/2), so the square is
+// 1/36 + j/6 + 5j²/12 + j³/2 + j⁴/4.
+func (m *kalmanModel) summedPositionNoise(T, steps float64) float64 {
+	x := steps
+	x1 := x * (x - 1)
+	s0, s1, s2 := x, x1*0.5, x1*(2*x-1)*(1.0/6)
+	v := m.sw * m.sw
+	if m.n == 2 {
+		T2 := T * T
+		return v * T2 * T2 * (0.25*s0 + s1 + s2)
+	}
+	s3, s4 := x1*x1*0.25, x1*(2*x-1)*(3*x*x-3*x-1)*(1.0/30)
+	T3 := T * T * T
+	return v * T3 * T3 * (s0*(1.0/36) + s1*(1.0/6) + s2*(5.0/12) + 0.5*s3 + 0.25*s4)
+}
+
+// summedNoise returns Σ_{j=0}^{m-1} F(jT)·Q(T)·F(jT)ᵀ in closed form. The
+// components of F(jT)·Γ(T) are polynomials in j (degree <= 2), so each
+// element of the sum is a combination of the power sums Σ_{j<m} j^p, p <= 4.
+func (m *kalmanModel) summedNoise(T, steps float64) (Q mat3) {
+	c, S := m.noiseCoefs(T, steps)
 	v := m.sw * m.sw
 	for a := 0; a < m.n; a++ {
 		for b := 0; b <= a; b++ {

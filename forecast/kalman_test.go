@@ -178,6 +178,9 @@ func TestKalmanSummedNoise(t *testing.T) {
 				sum.Add(sum, &t2)
 			}
 			got := f.m.summedNoise(T, float64(m))
+			if pn := f.m.summedPositionNoise(T, float64(m)); math.Abs(pn-got[0][0]) > 1e-12*got[0][0] {
+				t.Errorf("%s m=%d: position noise alone %g, from the matrix %g", kind, m, pn, got[0][0])
+			}
 			for a := 0; a < n; a++ {
 				for b := 0; b < n; b++ {
 					w := sum.At(a, b)

@@ -197,6 +197,16 @@ func (h *history) fit(f *polyFit, deg int, window float64, minN int) bool {
 // because the hot path must not allocate; tests check it against gonum.
 func solveSPD(a *[MaxDegree + 1][MaxDegree + 1]float64, m int, b, c *[MaxDegree + 1]r3.Vec) bool {
 	var l [MaxDegree + 1][MaxDegree + 1]float64
+	if !cholesky(a, m, &l) {
+		return false
+	}
+	cholSolve(&l, m, b, c)
+	return true
+}
+
+// cholesky writes the lower Cholesky factor l of the m×m symmetric matrix a
+// (a = l·lᵀ) and reports false when a is not numerically positive definite.
+func cholesky(a *[MaxDegree + 1][MaxDegree + 1]float64, m int, l *[MaxDegree + 1][MaxDegree + 1]float64) bool {
 	for j := 0; j < m; j++ {
 		d := a[j][j]
 		for k := 0; k < j; k++ {
@@ -214,6 +224,11 @@ func solveSPD(a *[MaxDegree + 1][MaxDegree + 1]float64, m int, b, c *[MaxDegree 
 			l[i][j] = s / l[j][j]
 		}
 	}
+	return true
+}
+
+// cholSolve solves l·lᵀ·c = b for the factor l of cholesky.
+func cholSolve(l *[MaxDegree + 1][MaxDegree + 1]float64, m int, b, c *[MaxDegree + 1]r3.Vec) {
 	var y [MaxDegree + 1]r3.Vec
 	for i := 0; i < m; i++ {
 		s := b[i]
@@ -229,7 +244,28 @@ func solveSPD(a *[MaxDegree + 1][MaxDegree + 1]float64, m int, b, c *[MaxDegree 
 		}
 		c[i] = r3.Scale(1/l[i][i], s)
 	}
-	return true
+}
+
+// cholInvDiag returns the diagonal of a⁻¹ from the Cholesky factor l of a:
+// a⁻¹ = l⁻ᵀ·l⁻¹, so (a⁻¹)_kk is the squared norm of column k of l⁻¹.
+func cholInvDiag(l *[MaxDegree + 1][MaxDegree + 1]float64, m int) (d [MaxDegree + 1]float64) {
+	var inv [MaxDegree + 1][MaxDegree + 1]float64 // l⁻¹, lower triangular
+	for j := 0; j < m; j++ {
+		inv[j][j] = 1 / l[j][j]
+		for i := j + 1; i < m; i++ {
+			s := 0.0
+			for k := j; k < i; k++ {
+				s -= l[i][k] * inv[k][j]
+			}
+			inv[i][j] = s / l[i][i]
+		}
+	}
+	for k := 0; k < m; k++ {
+		for i := k; i < m; i++ {
+			d[k] += inv[i][k] * inv[i][k]
+		}
+	}
+	return d
 }
 
 // LocalPolyWeights returns the weights w of the least-squares polynomial fit

@@ -113,7 +113,7 @@ func TestGainsRoundTripAndChecks(t *testing.T) {
 		}
 	}
 	bad := []struct{ edit, want string }{
-		{"feature_set: osc-v3", "feature_set: \"old\": this forereach uses"},
+		{"feature_set: " + FeatureSet, "feature_set: \"old\": this forereach uses"},
 		{"format: forereach-gains/1", "format: \"x\""},
 		{"  - 0.95\n", "horizons[0].radius_z: 6 values, want one per level (5)"},
 	}
