@@ -173,7 +173,7 @@ func (k *kinState) update(t float64, p r3.Vec) {
 	if k.ok {
 		dt := t - k.t
 		pred := r3.Add(k.p, r3.Add(r3.Scale(dt, k.v), r3.Scale(dt*dt/2, k.a)))
-		if r3.Norm(r3.Sub(p, pred)) > gateDist+gateSpeed*dt {
+		if lim := gateDist + gateSpeed*dt; r3.Norm2(r3.Sub(p, pred)) > lim*lim {
 			k.misses++
 			if k.misses < gateMisses {
 				p = pred
@@ -195,7 +195,7 @@ func (k *kinState) update(t float64, p r3.Vec) {
 		return
 	}
 	fs := &k.fits
-	k.dv = r3.Norm(r3.Sub(fs[winV25].D[1], fs[winV200].D[1]))
+	k.dv = math.Sqrt(r3.Norm2(r3.Sub(fs[winV25].D[1], fs[winV200].D[1])))
 	vL, varL := fs[winL100].D[1], fs[winL100].VarD[1]
 	vM, varM := fs[winQ100].D[1], fs[winQ100].VarD[1]
 	rms2 := fs[winQ100].RMS * fs[winQ100].RMS
@@ -226,11 +226,11 @@ func (k *kinState) update(t float64, p r3.Vec) {
 	k.v = r3.Add(vL, r3.Scale(shrink(r3.Sub(vM, vL), k.noise2*(varM-varL)), r3.Sub(vM, vL)))
 	dS := r3.Sub(vS, vM)
 	k.vs = r3.Add(k.v, r3.Scale(shrink(dS, k.noise2*(varS-varM)), dS))
-	a2 := math.Max(0, r3.Norm2(aq)-3*k.noise2*varA)
+	a2 := max(0, r3.Norm2(aq)-3*k.noise2*varA)
 	k.msv += w * (r3.Norm2(k.v) - k.msv)
 	k.msa += w * (a2 - k.msa)
-	k.omega = math.Sqrt(k.msa / math.Max(k.msv, 1e-12))
-	k.omega = math.Min(math.Max(k.omega, omegaMin), omegaMax)
+	k.omega = math.Sqrt(k.msa / max(k.msv, 1e-12))
+	k.omega = min(max(k.omega, omegaMin), omegaMax)
 	k.ok = true
 }
 
@@ -241,7 +241,7 @@ func shrink(d r3.Vec, v float64) float64 {
 	if n2 == 0 {
 		return 0
 	}
-	return math.Max(0, 1-3*v/n2)
+	return max(0, 1-3*v/n2)
 }
 
 // lambda is the share of the short-window velocity in osc-dv.

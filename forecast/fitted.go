@@ -190,7 +190,7 @@ func (f *fittedForecaster) Predict(dst *Path, h Horizon) bool {
 			Y: p.Y + cv*v.Y + ca*a.Y + cdv*dv.Y,
 			Z: p.Z + cv*v.Z + ca*a.Z + cdv*dv.Z,
 		}
-		dst.R[i] = math.Max(tb.z[i]*(sc[0]*st[0]+sc[1]*st[1]+sc[2]*st[2]+sc[3]*st[3]), tb.zmin[i])
+		dst.R[i] = max(tb.z[i]*(sc[0]*st[0]+sc[1]*st[1]+sc[2]*st[2]+sc[3]*st[3]), tb.zmin[i])
 	}
 	return true
 }

@@ -1,7 +1,8 @@
 package forecast
 
 // The solvers of this file are cholesky, cholSolve and cholInvDiag unrolled
-// for the sizes of the local polynomial fits: at these sizes the loops of the
+// for the sizes of the local polynomial fits (divisions by a pivot become
+// multiplications by its reciprocal): at these sizes the loops of the
 // general versions cost more than their arithmetic.
 
 import (
@@ -48,7 +49,7 @@ func solveHankel2(pw *[2*MaxDegree + 1]float64, b *[MaxDegree + 1]r3.Vec, c *[Ma
 	}
 	l00 := math.Sqrt(d0)
 	r0 := 1 / l00
-	l10 := (pw[1]) / l00
+	l10 := (pw[1]) * r0
 	d1 := pw[2] - l10*l10
 	if !(d1 > 1e-13*pw[2]) {
 		return false
@@ -85,15 +86,15 @@ func solveHankel3(pw *[2*MaxDegree + 1]float64, b *[MaxDegree + 1]r3.Vec, c *[Ma
 	}
 	l00 := math.Sqrt(d0)
 	r0 := 1 / l00
-	l10 := (pw[1]) / l00
-	l20 := (pw[2]) / l00
+	l10 := (pw[1]) * r0
+	l20 := (pw[2]) * r0
 	d1 := pw[2] - l10*l10
 	if !(d1 > 1e-13*pw[2]) {
 		return false
 	}
 	l11 := math.Sqrt(d1)
 	r1 := 1 / l11
-	l21 := (pw[3] - l20*l10) / l11
+	l21 := (pw[3] - l20*l10) * r1
 	d2 := pw[4] - l20*l20 - l21*l21
 	if !(d2 > 1e-13*pw[4]) {
 		return false
@@ -140,24 +141,24 @@ func solveHankel4(pw *[2*MaxDegree + 1]float64, b *[MaxDegree + 1]r3.Vec, c *[Ma
 	}
 	l00 := math.Sqrt(d0)
 	r0 := 1 / l00
-	l10 := (pw[1]) / l00
-	l20 := (pw[2]) / l00
-	l30 := (pw[3]) / l00
+	l10 := (pw[1]) * r0
+	l20 := (pw[2]) * r0
+	l30 := (pw[3]) * r0
 	d1 := pw[2] - l10*l10
 	if !(d1 > 1e-13*pw[2]) {
 		return false
 	}
 	l11 := math.Sqrt(d1)
 	r1 := 1 / l11
-	l21 := (pw[3] - l20*l10) / l11
-	l31 := (pw[4] - l30*l10) / l11
+	l21 := (pw[3] - l20*l10) * r1
+	l31 := (pw[4] - l30*l10) * r1
 	d2 := pw[4] - l20*l20 - l21*l21
 	if !(d2 > 1e-13*pw[4]) {
 		return false
 	}
 	l22 := math.Sqrt(d2)
 	r2 := 1 / l22
-	l32 := (pw[5] - l30*l20 - l31*l21) / l22
+	l32 := (pw[5] - l30*l20 - l31*l21) * r2
 	d3 := pw[6] - l30*l30 - l31*l31 - l32*l32
 	if !(d3 > 1e-13*pw[6]) {
 		return false

@@ -83,7 +83,8 @@ func (h *history) fitMany(specs []windowSpec, out []polyFit) bool {
 		}
 		order[j] = w
 	}
-	// One pass of running sums; each window is solved at its last sample.
+	// One pass of running sums (fused multiply-adds); each window is solved
+	// at its last sample.
 	var s0, s1, s2, s3, s4, s5, s6, ss float64 // locals, to stay in registers
 	var b0x, b0y, b0z, b1x, b1y, b1z, b2x, b2y, b2z, b3x, b3y, b3z float64
 	next := 0
@@ -95,27 +96,27 @@ func (h *history) fitMany(specs []windowSpec, out []polyFit) bool {
 		t2 := t1 * t1
 		t3 := t2 * t1
 		if i < nss {
-			ss += px*px + py*py + pz*pz
+			ss = math.FMA(px, px, math.FMA(py, py, math.FMA(pz, pz, ss)))
 		}
 		s0++
 		s1 += t1
 		s2 += t2
 		s3 += t3
-		s4 += t3 * t1
-		s5 += t3 * t2
-		s6 += t3 * t3
+		s4 = math.FMA(t3, t1, s4)
+		s5 = math.FMA(t3, t2, s5)
+		s6 = math.FMA(t3, t3, s6)
 		b0x += px
 		b0y += py
 		b0z += pz
-		b1x += t1 * px
-		b1y += t1 * py
-		b1z += t1 * pz
-		b2x += t2 * px
-		b2y += t2 * py
-		b2z += t2 * pz
-		b3x += t3 * px
-		b3y += t3 * py
-		b3z += t3 * pz
+		b1x = math.FMA(t1, px, b1x)
+		b1y = math.FMA(t1, py, b1y)
+		b1z = math.FMA(t1, pz, b1z)
+		b2x = math.FMA(t2, px, b2x)
+		b2y = math.FMA(t2, py, b2y)
+		b2z = math.FMA(t2, pz, b2z)
+		b3x = math.FMA(t3, px, b3x)
+		b3y = math.FMA(t3, py, b3y)
+		b3z = math.FMA(t3, pz, b3z)
 		for next < nw && ns[order[next]] == i+1 {
 			w := order[next]
 			sm := windowSums{
