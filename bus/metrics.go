@@ -1,25 +1,23 @@
-//go:build !promclient
-
 package bus
 
 import (
 	"bufio"
-	"math"
 	"net/http"
-	"runtime"
-	"sort"
-	"strconv"
-	"strings"
-	"sync"
 
 	"forereach/policy"
+
+	"github.com/prometheus/client_golang/prometheus"
+	"github.com/prometheus/client_golang/prometheus/collectors"
+	"github.com/prometheus/client_golang/prometheus/promhttp"
+	"github.com/prometheus/common/expfmt"
 )
 
-// Metrics are the live service's metrics, served in the Prometheus text
-// exposition format (version 0.0.4). This implementation stands in for
-// github.com/prometheus/client_golang (metrics_prom.go, build tag
-// promclient) while go.sum lacks that module's dependencies; both give the
-// same names and values. Names:
+// Metrics are the live service's Prometheus metrics
+// (github.com/prometheus/client_golang), in a registry of their own, so
+// that several services can live in one process (as in tests).
+//
+// This file replaces metrics.go once go.sum lists client_golang's own
+// dependencies (go mod tidy): build with -tags promclient until then. Names:
 //
 //	forereach_samples_total                      accepted hand samples
 //	forereach_rejected_total{reason}             refused samples and messages
@@ -34,213 +32,88 @@ import (
 //	forereach_broker_connected                   1 while connected to the broker
 //	forereach_broker_connects_total              successful (re)connections
 //	forereach_recording_errors_total             failed writes to the recording
-//	go_goroutines, go_memstats_heap_alloc_bytes  of the process
+//
+// and the Go runtime and process collectors (go_*, process_*).
 type Metrics struct {
-	mu   sync.Mutex
-	list []*family
+	Registry *prometheus.Registry
 
-	samples, robot, implausible, connects, recErrors *series
-	rejected, advisories, trackLatency               *family
-	level, scale, connected                          *series
-	processing, inputLatency                         *series
+	samples, robot, implausible, connects, recErrors prometheus.Counter
+	rejected, advisories                             *prometheus.CounterVec
+	trackLatency                                     *prometheus.GaugeVec
+	level, scale, connected                          prometheus.Gauge
+	processing, inputLatency                         prometheus.Histogram
 }
 
-type family struct {
-	name, help, typ string
-	label           string // the one label name, "" for none
-	buckets         []float64
-	series          map[string]*series
-}
-
-// series is one time series: a value, or a histogram.
-type series struct {
-	mu     *sync.Mutex
-	value  float64
-	counts []uint64 // per bucket (not cumulative), histograms
-	sum    float64
-	count  uint64
-	bounds []float64
-}
-
-func (s *series) Inc() { s.Add(1) }
-
-func (s *series) Add(v float64) {
-	s.mu.Lock()
-	s.value += v
-	s.mu.Unlock()
-}
-
-func (s *series) Set(v float64) {
-	s.mu.Lock()
-	s.value = v
-	s.mu.Unlock()
-}
-
-func (s *series) Observe(v float64) {
-	if math.IsNaN(v) {
-		return
-	}
-	i := sort.SearchFloat64s(s.bounds, v) // first bound >= v: le semantics
-	s.mu.Lock()
-	if i < len(s.counts) {
-		s.counts[i]++
-	}
-	s.sum += v
-	s.count++
-	s.mu.Unlock()
-}
-
-func (m *Metrics) family(name, typ, help, label string, buckets []float64) *family {
-	f := &family{name: name, help: help, typ: typ, label: label, buckets: buckets, series: map[string]*series{}}
-	m.list = append(m.list, f)
-	return f
-}
-
-func (f *family) with(mu *sync.Mutex, v string) *series {
-	if s := f.series[v]; s != nil {
-		return s
-	}
-	s := &series{mu: mu, bounds: f.buckets}
-	if f.buckets != nil {
-		s.counts = make([]uint64, len(f.buckets))
-	}
-	f.series[v] = s
-	return s
-}
-
-// NewMetrics makes the service's metrics.
+// NewMetrics makes the service's metrics in a new registry.
 func NewMetrics() *Metrics {
-	m := &Metrics{}
-	one := func(name, typ, help string, buckets []float64) *series {
-		return m.family(name, typ, help, "", buckets).with(&m.mu, "")
+	counter := func(name, help string) prometheus.Counter {
+		return prometheus.NewCounter(prometheus.CounterOpts{Name: name, Help: help})
 	}
-	m.samples = one("forereach_samples_total", "counter", "Accepted hand samples.", nil)
-	m.rejected = m.family("forereach_rejected_total", "counter", "Refused samples and messages, by reason.", "reason", nil)
-	m.robot = one("forereach_robot_states_total", "counter", "Accepted robot states.", nil)
-	m.advisories = m.family("forereach_advisories_total", "counter", "Advisory changes published, by new level (advisory only).", "level", nil)
-	m.level = one("forereach_advisory_level", "gauge", "Current advisory level: 0 clear, 1 reduce, 2 hold (advisory only).", nil)
-	m.scale = one("forereach_advisory_scale", "gauge", "Current requested speed scale (advisory only).", nil)
-	m.processing = one("forereach_processing_seconds", "histogram", "Time from a message's arrival to its samples processed and any advisory published.",
-		[]float64{25e-6, 50e-6, 100e-6, 200e-6, 500e-6, 1e-3, 2e-3, 5e-3, 10e-3, 20e-3, 50e-3, 0.1})
-	m.inputLatency = one("forereach_input_latency_seconds", "histogram", "Arrival time minus source time of accepted samples (needs synchronised clocks).",
-		[]float64{0.5e-3, 1e-3, 2e-3, 5e-3, 10e-3, 20e-3, 40e-3, 80e-3, 0.16, 0.32, 0.64, 1.28})
-	m.implausible = one("forereach_input_latency_implausible_total", "counter", "Samples whose arrival minus source time was negative or above 10 s (unsynchronised or non-Unix source clock).", nil)
-	m.trackLatency = m.family("forereach_track_input_latency_seconds", "gauge", "Smoothed input latency per track.", "track", nil)
-	m.connected = one("forereach_broker_connected", "gauge", "1 while connected to the MQTT broker.", nil)
-	m.connects = one("forereach_broker_connects_total", "counter", "Successful connections to the broker.", nil)
-	m.recErrors = one("forereach_recording_errors_total", "counter", "Failed writes to the recording.", nil)
+	gauge := func(name, help string) prometheus.Gauge {
+		return prometheus.NewGauge(prometheus.GaugeOpts{Name: name, Help: help})
+	}
+	m := &Metrics{
+		Registry:   prometheus.NewRegistry(),
+		samples:    counter("forereach_samples_total", "Accepted hand samples."),
+		rejected:   prometheus.NewCounterVec(prometheus.CounterOpts{Name: "forereach_rejected_total", Help: "Refused samples and messages, by reason."}, []string{"reason"}),
+		robot:      counter("forereach_robot_states_total", "Accepted robot states."),
+		advisories: prometheus.NewCounterVec(prometheus.CounterOpts{Name: "forereach_advisories_total", Help: "Advisory changes published, by new level (advisory only)."}, []string{"level"}),
+		level:      gauge("forereach_advisory_level", "Current advisory level: 0 clear, 1 reduce, 2 hold (advisory only)."),
+		scale:      gauge("forereach_advisory_scale", "Current requested speed scale (advisory only)."),
+		processing: prometheus.NewHistogram(prometheus.HistogramOpts{Name: "forereach_processing_seconds",
+			Help:    "Time from a message's arrival to its samples processed and any advisory published.",
+			Buckets: []float64{25e-6, 50e-6, 100e-6, 200e-6, 500e-6, 1e-3, 2e-3, 5e-3, 10e-3, 20e-3, 50e-3, 0.1}}),
+		inputLatency: prometheus.NewHistogram(prometheus.HistogramOpts{Name: "forereach_input_latency_seconds",
+			Help:    "Arrival time minus source time of accepted samples (needs synchronised clocks).",
+			Buckets: []float64{0.5e-3, 1e-3, 2e-3, 5e-3, 10e-3, 20e-3, 40e-3, 80e-3, 0.16, 0.32, 0.64, 1.28}}),
+		implausible:  counter("forereach_input_latency_implausible_total", "Samples whose arrival minus source time was negative or above 10 s (unsynchronised or non-Unix source clock)."),
+		trackLatency: prometheus.NewGaugeVec(prometheus.GaugeOpts{Name: "forereach_track_input_latency_seconds", Help: "Smoothed input latency per track."}, []string{"track"}),
+		connected:    gauge("forereach_broker_connected", "1 while connected to the MQTT broker."),
+		connects:     counter("forereach_broker_connects_total", "Successful connections to the broker."),
+		recErrors:    counter("forereach_recording_errors_total", "Failed writes to the recording."),
+	}
+	m.Registry.MustRegister(m.samples, m.rejected, m.robot, m.advisories, m.level, m.scale, m.processing,
+		m.inputLatency, m.implausible, m.trackLatency, m.connected, m.connects, m.recErrors,
+		collectors.NewGoCollector(), collectors.NewProcessCollector(collectors.ProcessCollectorOpts{}))
 	for _, r := range Reasons {
-		m.rejected.with(&m.mu, r)
+		m.rejected.WithLabelValues(r)
 	}
 	for _, r := range policy.RejectReasons() {
-		m.rejected.with(&m.mu, r.String())
+		m.rejected.WithLabelValues(r.String())
 	}
 	for _, l := range []policy.Level{policy.LevelClear, policy.LevelReduce, policy.LevelHold} {
-		m.advisories.with(&m.mu, l.String())
+		m.advisories.WithLabelValues(l.String())
 	}
 	m.scale.Set(1)
 	return m
 }
 
-func (m *Metrics) rejectedBy(reason string) *series {
-	m.mu.Lock()
-	s := m.rejected.series[reason]
-	m.mu.Unlock()
-	if s != nil {
-		return s
-	}
-	m.mu.Lock()
-	defer m.mu.Unlock()
-	return m.rejected.with(&m.mu, reason)
+func (m *Metrics) rejectedBy(reason string) prometheus.Counter {
+	return m.rejected.WithLabelValues(reason)
+}
+func (m *Metrics) advisoriesBy(level string) prometheus.Counter {
+	return m.advisories.WithLabelValues(level)
+}
+func (m *Metrics) trackLatencyOf(track string) prometheus.Gauge {
+	return m.trackLatency.WithLabelValues(track)
 }
 
-func (m *Metrics) advisoriesBy(level string) *series {
-	m.mu.Lock()
-	defer m.mu.Unlock()
-	return m.advisories.with(&m.mu, level)
-}
-
-func (m *Metrics) trackLatencyOf(track string) *series {
-	m.mu.Lock()
-	defer m.mu.Unlock()
-	return m.trackLatency.with(&m.mu, track)
-}
-
-// Handler serves the metrics in the Prometheus text format.
+// Handler serves the metrics in the Prometheus exposition formats.
 func (m *Metrics) Handler() http.Handler {
-	return http.HandlerFunc(func(w http.ResponseWriter, r *http.Request) {
-		w.Header().Set("Content-Type", "text/plain; version=0.0.4; charset=utf-8")
-		bw := bufio.NewWriter(w)
-		m.Write(bw)
-		bw.Flush()
-	})
+	return promhttp.HandlerFor(m.Registry, promhttp.HandlerOpts{Registry: m.Registry})
 }
 
-// Write writes every metric in the text format.
-func (m *Metrics) Write(w *bufio.Writer) {
-	var ms runtime.MemStats
-	runtime.ReadMemStats(&ms)
-	m.mu.Lock()
-	defer m.mu.Unlock()
-	for _, f := range m.list {
-		w.WriteString("# HELP " + f.name + " " + f.help + "\n# TYPE " + f.name + " " + f.typ + "\n")
-		keys := make([]string, 0, len(f.series))
-		for k := range f.series {
-			keys = append(keys, k)
-		}
-		sort.Strings(keys)
-		for _, k := range keys {
-			s := f.series[k]
-			lbl := ""
-			if f.label != "" {
-				lbl = f.label + `="` + escapeLabel(k) + `"`
-			}
-			if f.buckets == nil {
-				w.WriteString(f.name + braces(lbl) + " " + fmtValue(s.value) + "\n")
-				continue
-			}
-			var cum uint64
-			for i, b := range f.buckets {
-				cum += s.counts[i]
-				w.WriteString(f.name + "_bucket" + braces(joinLabels(lbl, `le="`+fmtValue(b)+`"`)) + " " + strconv.FormatUint(cum, 10) + "\n")
-			}
-			w.WriteString(f.name + "_bucket" + braces(joinLabels(lbl, `le="+Inf"`)) + " " + strconv.FormatUint(s.count, 10) + "\n")
-			w.WriteString(f.name + "_sum" + braces(lbl) + " " + fmtValue(s.sum) + "\n")
-			w.WriteString(f.name + "_count" + braces(lbl) + " " + strconv.FormatUint(s.count, 10) + "\n")
+// Write writes every metric in the Prometheus text format.
+func (m *Metrics) Write(w *bufio.Writer) error {
+	mfs, err := m.Registry.Gather()
+	if err != nil {
+		return err
+	}
+	enc := expfmt.NewEncoder(w, expfmt.NewFormat(expfmt.TypeTextPlain))
+	for _, mf := range mfs {
+		if err := enc.Encode(mf); err != nil {
+			return err
 		}
 	}
-	w.WriteString("# HELP go_goroutines Number of goroutines that currently exist.\n# TYPE go_goroutines gauge\n")
-	w.WriteString("go_goroutines " + strconv.Itoa(runtime.NumGoroutine()) + "\n")
-	w.WriteString("# HELP go_memstats_heap_alloc_bytes Number of heap bytes allocated and still in use.\n# TYPE go_memstats_heap_alloc_bytes gauge\n")
-	w.WriteString("go_memstats_heap_alloc_bytes " + strconv.FormatUint(ms.HeapAlloc, 10) + "\n")
-}
-
-func braces(l string) string {
-	if l == "" {
-		return ""
-	}
-	return "{" + l + "}"
-}
-
-func joinLabels(a, b string) string {
-	if a == "" {
-		return b
-	}
-	return a + "," + b
-}
-
-func escapeLabel(s string) string {
-	return strings.NewReplacer(`\`, `\\`, "\n", `\n`, `"`, `\"`).Replace(s)
-}
-
-func fmtValue(v float64) string {
-	switch {
-	case math.IsInf(v, 1):
-		return "+Inf"
-	case math.IsInf(v, -1):
-		return "-Inf"
-	case math.IsNaN(v):
-		return "NaN"
-	}
-	return strconv.FormatFloat(v, 'g', -1, 64)
+	return nil
 }
