@@ -14,10 +14,7 @@ import (
 
 // Metrics are the live service's Prometheus metrics
 // (github.com/prometheus/client_golang), in a registry of their own, so
-// that several services can live in one process (as in tests).
-//
-// This file replaces metrics.go once go.sum lists client_golang's own
-// dependencies (go mod tidy): build with -tags promclient until then. Names:
+// that several services can live in one process (as in tests). Names:
 //
 //	forereach_samples_total                      accepted hand samples
 //	forereach_rejected_total{reason}             refused samples and messages
