@@ -21,6 +21,7 @@ import (
 type Inflated struct {
 	base   evaluator
 	margin float64
+	minor  *Inflated // base's convex minorant inflated alike, or nil
 }
 
 // Inflate returns the set of points within m of s (m >= 0, finite). A sphere
@@ -43,9 +44,29 @@ func Inflate(s Shape, m float64) Shape {
 		c.r += m
 		return &c
 	case *Inflated:
-		return &Inflated{base: v.base, margin: v.margin + m}
+		return newInflated(v.base, v.margin+m)
 	}
-	return &Inflated{base: asEvaluator(s), margin: m}
+	return newInflated(asEvaluator(s), m)
+}
+
+func newInflated(base evaluator, m float64) *Inflated {
+	f := &Inflated{base: base, margin: m}
+	if hb, ok := base.(hullBounder); ok && !base.convex() {
+		if h := hb.hull(); h != nil {
+			// The minorant grown by m holds the shape grown by m.
+			f.minor = &Inflated{base: h, margin: m}
+		}
+	}
+	return f
+}
+
+// hull returns the convex minorant: the base's, inflated by the margin
+// (see hullBounder).
+func (f *Inflated) hull() evaluator {
+	if f.minor == nil {
+		return nil
+	}
+	return f.minor
 }
 
 // Base returns the shape before inflation.

@@ -20,9 +20,15 @@ type Prism struct {
 	bounds     AABB
 	// per edge i (from pts[i] to pts[i+1]): direction and 1/|d|²
 	ex, ey, inv []float64
+	// edges holds the same per edge, together, for the distance loop.
+	edges []prismEdge
 	// pieces is a triangulation of a non-convex footprint into convex
 	// prisms, used by the path query's lower bounds (nil when convex).
 	pieces []*Prism
+	// hullP is the prism over the footprint's convex hull (nil when
+	// convex): it holds the prism, so its signed distance is nowhere above
+	// the prism's (see hullBounder).
+	hullP *Prism
 }
 
 // NewPrism returns the vertical prism with the given footprint (x, y in
@@ -71,8 +77,48 @@ func NewPrism(footprint []r2.Vec, zmin, zmax float64) (*Prism, error) {
 	p := buildPrism(pts, zmin, zmax, a)
 	if !p.isConvex {
 		p.pieces = triangulatePrism(pts, zmin, zmax, a)
+		if h := convexHull2(pts); len(h) >= 3 {
+			p.hullP = buildPrism(h, zmin, zmax, shoelace(h))
+			p.hullP.isConvex = true
+		}
 	}
 	return p, nil
+}
+
+// convexHull2 returns the convex hull of the points, counter-clockwise,
+// without collinear points (Andrew's monotone chain; configuration time).
+// Its corners are points of pts, so it holds their polygon exactly.
+func convexHull2(pts []r2.Vec) []r2.Vec {
+	ps := append([]r2.Vec(nil), pts...)
+	sort.Slice(ps, func(i, j int) bool {
+		if ps[i].X != ps[j].X {
+			return ps[i].X < ps[j].X
+		}
+		return ps[i].Y < ps[j].Y
+	})
+	var h []r2.Vec
+	for pass := 0; pass < 2; pass++ {
+		start := len(h)
+		for _, q := range ps {
+			for len(h) >= start+2 && orient(h[len(h)-2], h[len(h)-1], q) <= 0 {
+				h = h[:len(h)-1]
+			}
+			h = append(h, q)
+		}
+		h = h[:len(h)-1] // the last point starts the other chain
+		for i, j := 0, len(ps)-1; i < j; i, j = i+1, j-1 {
+			ps[i], ps[j] = ps[j], ps[i]
+		}
+	}
+	return h
+}
+
+// hull returns the convex minorant of a non-convex prism (see hullBounder).
+func (p *Prism) hull() evaluator {
+	if p.hullP == nil {
+		return nil
+	}
+	return p.hullP
 }
 
 // buildPrism makes a prism of a checked counter-clockwise footprint of area
@@ -96,7 +142,22 @@ func buildPrism(pts []r2.Vec, zmin, zmax, a float64) *Prism {
 		}
 	}
 	p.bounds = AABB{Min: r3.Vec{X: lo.X, Y: lo.Y, Z: zmin}, Max: r3.Vec{X: hi.X, Y: hi.Y, Z: zmax}}
+	p.edges = make([]prismEdge, n)
+	for i, v := range pts {
+		e := prismEdge{vx: v.X, vy: v.Y, wy: pts[(i+1)%n].Y, ex: p.ex[i], ey: p.ey[i], inv: p.inv[i]}
+		if e.ey != 0 {
+			e.slope = e.ex / e.ey
+		}
+		p.edges[i] = e
+	}
 	return p
+}
+
+// prismEdge is one footprint edge from (vx, vy) to (vx + ex, wy = vy + ey)
+// with inv = 1/|e|² and slope = ex/ey (0 for a horizontal edge, which the
+// crossing test never uses).
+type prismEdge struct {
+	vx, vy, wy, ex, ey, inv, slope float64
 }
 
 // shoelace returns the signed area of the polygon (positive when
@@ -202,34 +263,30 @@ func (p *Prism) Kind() string { return "prism" }
 func (p *Prism) sd2(x, y float64) (d float64, cx, cy float64, edge int) {
 	best := math.Inf(1)
 	inside := false
-	n := len(p.pts)
-	for i := 0; i < n; i++ {
-		vx, vy := p.pts[i].X, p.pts[i].Y
-		ex, ey := p.ex[i], p.ey[i]
-		wx, wy := x-vx, y-vy
-		t := (wx*ex + wy*ey) * p.inv[i]
+	var bdx, bdy float64
+	for i := range p.edges {
+		e := &p.edges[i]
+		wx, wy := x-e.vx, y-e.vy
+		t := (wx*e.ex + wy*e.ey) * e.inv
 		if t < 0 {
 			t = 0
 		} else if t > 1 {
 			t = 1
 		}
-		qx, qy := vx+t*ex, vy+t*ey
-		dx, dy := x-qx, y-qy
+		dx, dy := wx-t*e.ex, wy-t*e.ey
 		if d2 := dx*dx + dy*dy; d2 < best {
-			best, cx, cy, edge = d2, qx, qy, i
+			best, bdx, bdy, edge = d2, dx, dy, i
 		}
 		// Crossing number with the ray to +x, half-open in y.
-		if (vy > y) != (vy+ey > y) {
-			if xc := vx + (y-vy)*ex/ey; x < xc {
-				inside = !inside
-			}
+		if (e.vy > y) != (e.wy > y) && wx < wy*e.slope {
+			inside = !inside
 		}
 	}
 	d = math.Sqrt(best)
 	if inside {
 		d = -d
 	}
-	return d, cx, cy, edge
+	return d, x - bdx, y - bdy, edge
 }
 
 // grad2 returns the outward unit direction in the plane at (x, y) given its
@@ -691,11 +748,11 @@ func (p *Prism) refineBound(p0, dp r3.Vec, r0, dr, m, a, b, fa, fb float64) floa
 			sb, gb := q.sdGrad(pb)
 			da, db := r3.Dot(ga, dp), r3.Dot(gb, dp)
 			it := interval{a: a, b: b, ga: sa, gb: sb, da: da, db: db}
-			if it.lowerBound(norm(dp), true) <= 0 {
+			if it.lowerBound(norm(dp), true, false) <= 0 {
 				outside = false
 			}
 			it = interval{a: a, b: b, ga: sa - ra - m, gb: sb - rb - m, da: da - dr, db: db - dr}
-			lbOut = min(lbOut, it.lowerBound(ls, true))
+			lbOut = min(lbOut, it.lowerBound(ls, true, false))
 		}
 		if outside {
 			return lbOut

@@ -3,6 +3,7 @@ package zones
 import (
 	"errors"
 	"math"
+	"math/rand/v2"
 	"strings"
 	"testing"
 
@@ -402,4 +403,67 @@ func FuzzNewPrism(f *testing.F) {
 			}
 		}
 	})
+}
+
+// The convex minorant of a non-convex prism is the prism over the
+// footprint's convex hull. By hand: the hull of the L footprint drops the
+// reflex corner (1,1); the hull of the U footprint is its 3×2 rectangle
+// (the notch corners are inside, the top corners collinear with none).
+func TestPrismHull(t *testing.T) {
+	for _, c := range []struct {
+		name string
+		fp   []r2.Vec
+		want []r2.Vec // counter-clockwise from the lowest-leftmost corner
+	}{
+		{"L", lShape, []r2.Vec{{X: 0, Y: 0}, {X: 2, Y: 0}, {X: 2, Y: 2}, {X: 1, Y: 2}, {X: 0, Y: 1}}},
+		{"U", uShape, []r2.Vec{{X: 0, Y: 0}, {X: 3, Y: 0}, {X: 3, Y: 2}, {X: 0, Y: 2}}},
+	} {
+		p := must(NewPrism(c.fp, 0, 1))
+		h := p.hull()
+		if h == nil || !h.convex() {
+			t.Fatalf("%s: no convex minorant", c.name)
+		}
+		got := h.(*Prism).Footprint()
+		if len(got) != len(c.want) {
+			t.Fatalf("%s: hull %v, want %v", c.name, got, c.want)
+		}
+		for i := range got {
+			if got[i] != c.want[i] {
+				t.Fatalf("%s: hull %v, want %v", c.name, got, c.want)
+			}
+		}
+	}
+	if h := must(NewPrism([]r2.Vec{{X: 0, Y: 0}, {X: 1, Y: 0}, {X: 1, Y: 1}, {X: 0, Y: 1}}, 0, 1)).hull(); h != nil {
+		t.Errorf("convex prism has a minorant %v", h)
+	}
+	if h := Inflate(must(NewBox(r3.Vec{}, r3.Vec{X: 1, Y: 1, Z: 1})), 0.1).(hullBounder).hull(); h != nil {
+		t.Errorf("inflated box has a minorant %v", h)
+	}
+
+	// The minorant's signed distance is nowhere above the shape's, and
+	// equal where the nearest surface point is on both (south of the L:
+	// closed form, the distance to the face y = 0, 0.5).
+	rng := rand.New(rand.NewPCG(81, 82))
+	upr := must(NewPrism(uShape, 0.5, 1.2))
+	lpr := must(NewPrism(lShape, 0, 1))
+	for _, s := range []Shape{lpr, upr, Inflate(upr, 0.15), Inflate(lpr, 0.3)} {
+		h := s.(hullBounder).hull()
+		equal := 0
+		for i := 0; i < 20000; i++ {
+			q := randIn(rng, s.Bounds(), 0.5)
+			sd, hd := s.SignedDistance(q), h.SignedDistance(q)
+			if hd > sd+1e-12 {
+				t.Fatalf("%s: minorant %.12g above the signed distance %.12g at %v", s.Kind(), hd, sd, q)
+			}
+			if hd == sd {
+				equal++
+			}
+		}
+		if equal < 10000 {
+			t.Errorf("%s: minorant equal to the signed distance at only %d of 20000 points", s.Kind(), equal)
+		}
+	}
+	if sd, hd := lpr.SignedDistance(r3.Vec{X: 1, Y: -0.5, Z: 0.5}), lpr.hull().SignedDistance(r3.Vec{X: 1, Y: -0.5, Z: 0.5}); sd != 0.5 || hd != 0.5 {
+		t.Errorf("south of the L: %v and %v, want 0.5 and 0.5", sd, hd)
+	}
 }

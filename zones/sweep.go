@@ -31,6 +31,12 @@ type pointEval struct {
 	p  r3.Vec  // position in the shape's frame
 	g  float64 // f at the point
 	gr r3.Vec  // subgradient of the signed distance at p (shape frame)
+	// hg, hgr: the same for the shape's convex minorant (see hullBounder),
+	// when it has one and hok.
+	hg  float64
+	hgr r3.Vec
+	ok  bool // evaluated
+	hok bool // minorant evaluated
 }
 
 // boundRefiner is implemented by non-convex shapes that can bound the
@@ -42,166 +48,380 @@ type boundRefiner interface {
 	refineBound(p0, dp r3.Vec, r0, dr, m, a, b, fa, fb float64) float64
 }
 
+// hullBounder is implemented by non-convex shapes with a convex minorant:
+// hull returns a convex evaluator whose signed distance is nowhere above the
+// shape's (the signed distance to a convex solid holding the shape), or nil.
+// Along a segment the minorant's tangents then bound f from below as they
+// do for convex shapes; the bound is tight wherever the nearest surface
+// point is on the minorant's surface too (e.g. off a straight wall of a
+// prism, away from its notches).
+type hullBounder interface {
+	hull() evaluator
+}
+
 // interval is a piece [a, b] of one path segment in the segment's parameter
-// s ∈ [0, 1], with f and df/ds at both ends.
-type interval struct{ a, b, ga, gb, da, db float64 }
+// s ∈ [0, 1], with f and df/ds at both ends, and ha, hb, hda, hdb the same
+// for the convex minorant's separation (non-convex shapes with one).
+type interval struct {
+	a, b, ga, gb, da, db float64
+	ha, hb, hda, hdb     float64
+	// clear: f > 0 has been proved on [a, b) (the piece before a split at
+	// a point where f can first reach 0).
+	clear bool
+}
 
 // maxSplitDepth bounds the subdivision of one segment (2⁻⁴⁰ of a segment
 // is far below any useful time resolution).
 const maxSplitDepth = 40
 
+// tangentBound returns the lower bound over [a, b] of a function convex
+// along the segment, given its values fa, fb and slopes da, db at the ends:
+// the larger of the two tangents, minimised.
+func tangentBound(a, b, fa, fb, da, db float64) float64 {
+	switch {
+	case da >= 0:
+		return fa
+	case db <= 0:
+		return fb
+	default: // da < 0 < db: the tangents cross inside the interval
+		s := (fb - fa + da*a - db*b) / (da - db)
+		s = max(a, min(b, s))
+		return fa + da*(s-a)
+	}
+}
+
 // lowerBound returns a lower bound of f on the interval. ls is the Lipschitz
 // constant of f in s (|ΔP| + |ΔR| of the segment). For a convex shape, f is
 // convex along the segment and the tangents at both ends bound it from
-// below as well.
-func (it *interval) lowerBound(ls float64, cvx bool) float64 {
+// below as well; for a shape with a convex minorant (hull), the minorant's
+// tangents do.
+func (it *interval) lowerBound(ls float64, cvx, hull bool) float64 {
 	lo := min(it.ga, it.gb)
 	lb := min(0.5*(it.ga+it.gb-ls*(it.b-it.a)), lo)
-	if !cvx {
-		return lb
-	}
 	var tb float64
 	switch {
-	case it.da >= 0:
-		tb = it.ga
-	case it.db <= 0:
-		tb = it.gb
-	default: // da < 0 < db: the tangents cross inside the interval
-		s := (it.gb - it.ga + it.da*it.a - it.db*it.b) / (it.da - it.db)
-		s = max(it.a, min(it.b, s))
-		tb = it.ga + it.da*(s-it.a)
+	case cvx:
+		tb = tangentBound(it.a, it.b, it.ga, it.gb, it.da, it.db)
+	case hull:
+		tb = tangentBound(it.a, it.b, it.ha, it.hb, it.hda, it.hdb)
+	default:
+		return lb
 	}
 	return min(max(lb, tb), lo)
 }
 
+// sweepScratch is the reusable memory of one path query: the point cache,
+// the path's cumulative Lipschitz lengths and the search stack.
+type sweepScratch struct {
+	buf   []pointEval
+	cum   []float64 // cum[k] = Σ_{i<k} |P[i+1] − P[i]| + |R[i+1] − R[i]|
+	stack [maxSplitDepth + 2]interval
+}
+
+// grow makes room for n path points.
+func (sc *sweepScratch) grow(n int) {
+	if cap(sc.buf) < n {
+		sc.buf = make([]pointEval, n)
+		sc.cum = make([]float64, n)
+	}
+	sc.buf, sc.cum = sc.buf[:n], sc.cum[:n]
+}
+
+// span is a run of path points [i, j] (indices), j > i.
+type span struct{ i, j int32 }
+
+// shapeFns are the shape's evaluator and its optional helpers. They travel
+// as arguments rather than in sweepRun, so that the escape analysis (which
+// cannot see through interface calls) leaves the scratch memory on the
+// caller's stack.
+type shapeFns struct {
+	ev      evaluator
+	hull    evaluator    // convex minorant, nil when none (or convex)
+	refiner boundRefiner // nil when none
+}
+
+// sweepRun is the state of one exact path query.
+type sweepRun struct {
+	cvx    bool
+	hasH   bool
+	path   PathView
+	posed  bool
+	m      *mat3
+	pos    r3.Vec
+	margin float64
+	sc     *sweepScratch
+
+	best, bestT float64
+	lbAll       float64
+	touched     bool
+	touchT      float64
+}
+
+// eval evaluates path point k once (later calls return the cached value).
+func (r *sweepRun) eval(fn shapeFns, k int) *pointEval {
+	e := &r.sc.buf[k]
+	if e.ok {
+		return e
+	}
+	p := r.path.P[k]
+	if r.posed {
+		p = r.m.applyT(r3.Sub(p, r.pos))
+	}
+	sd, gr := fn.ev.sdGrad(p)
+	g := sd - r.path.R[k] - r.margin
+	e.p, e.g, e.gr, e.ok, e.hok = p, g, gr, true, false
+	if g < r.best {
+		r.best, r.bestT = g, r.path.T[k]
+	}
+	return e
+}
+
+// evalHull evaluates the convex minorant at path point k (evaluated), once.
+// The minorant is needed by the segment search only, so points that only
+// the run search sees never pay for it.
+func (r *sweepRun) evalHull(fn shapeFns, k int) {
+	e := &r.sc.buf[k]
+	if e.hok {
+		return
+	}
+	hs, hgr := fn.hull.sdGrad(e.p)
+	e.hg, e.hgr, e.hok = hs-r.path.R[k]-r.margin, hgr, true
+}
+
 // sweepLocal runs the exact path query of one shape against the path, whose
 // points are first brought into the shape's frame by the inverse of the pose
-// (m, pos) when posed. buf must have room for the path's points. See
-// SweepTol for the guarantees.
+// (m, pos) when posed. sc must have room for the path's n points and hold
+// its cumulative lengths. See SweepTol for the guarantees.
 //
-// Method: every path point is evaluated; the smallest value is the first
-// candidate. Then each segment is searched depth-first, left half first, by
-// branch and bound: a piece is dropped when its lower bound shows it can
-// neither improve the minimum by more than SweepTol nor (until a touch is
-// found) reach f <= 0; otherwise it is halved. The lower bound is the
-// Lipschitz bound (f changes by at most |ΔP| + |ΔR| over the segment, the
-// signed distance being 1-Lipschitz) and, for convex shapes, the larger
-// bound of the tangents at both ends (f is convex along a segment because
-// the signed distance of a convex solid is a convex function and P, R are
-// affine in t). A piece whose Lipschitz bound alone is within SweepTol is
-// always dropped, so the search ends; for convex shapes it typically needs a
-// handful of evaluations per segment near the closest approach and none
-// elsewhere.
-func sweepLocal(ev evaluator, cvx bool, path PathView, n int, posed bool, m *mat3, pos r3.Vec,
-	margin float64, buf []pointEval) SweepResult {
+// Method: branch and bound, depth-first and left first, in two tiers. The
+// upper tier works on runs of whole segments between two evaluated path
+// points i < j: f can be no lower than (f_i + f_j − L_ij)/2 on the run,
+// with L_ij the run's length |ΔP| + |ΔR| summed over its segments (the
+// signed distance being 1-Lipschitz). A run is dropped when this bound
+// shows it can neither improve the minimum by more than SweepTol nor (until
+// a touch is found) reach f <= 0; otherwise its middle point is evaluated
+// and both halves are searched. A run of one segment goes to the lower tier,
+// which halves the segment itself with the same test and sharper bounds:
+// for convex shapes the tangents at both ends (f is convex along a segment
+// because the signed distance of a convex solid is a convex function and
+// P, R are affine in t); for non-convex shapes the tangents of their convex
+// minorant (hullBounder) and their refined bound (boundRefiner). A piece
+// whose Lipschitz bound alone is within SweepTol is always dropped, so the
+// search ends. The path's end points are evaluated first; the points inside
+// dropped runs are never evaluated.
+//
+// Because the search goes left first, everything before the start of the
+// run or piece at hand has been proved clear (f > 0) until a touch is
+// found, so the first evaluated point with f <= SweepTol is the earliest
+// touch the guarantees ask for.
+func sweepLocal(ev evaluator, path PathView, n int, posed bool, m *mat3, pos r3.Vec,
+	margin float64, sc *sweepScratch) SweepResult {
 	const tol = SweepTol
-	best, bestT := math.Inf(1), 0.0
-	for k := 0; k < n; k++ {
-		p := path.P[k]
-		if posed {
-			p = m.applyT(r3.Sub(p, pos))
-		}
-		sd, gr := ev.sdGrad(p)
-		g := sd - path.R[k] - margin
-		buf[k] = pointEval{p: p, g: g, gr: gr}
-		if g < best {
-			best, bestT = g, path.T[k]
-		}
+	buf := sc.buf[:n]
+	for k := range buf {
+		buf[k].ok = false
 	}
-	var refiner boundRefiner
-	if !cvx {
-		refiner, _ = ev.(boundRefiner)
+	fn := shapeFns{ev: ev}
+	r := sweepRun{cvx: ev.convex(), path: path, posed: posed, m: m, pos: pos, margin: margin, sc: sc,
+		best: math.Inf(1), lbAll: math.Inf(1)}
+	if !r.cvx {
+		fn.refiner, _ = ev.(boundRefiner)
+		if hb, ok := ev.(hullBounder); ok {
+			fn.hull = hb.hull()
+		}
+		r.hasH = fn.hull != nil
 	}
-	lbAll := math.Inf(1)
-	touched, touchT := false, 0.0
-	var stack [maxSplitDepth + 2]interval
-	for k := 0; k+1 < n; k++ {
-		e0, e1 := &buf[k], &buf[k+1]
-		dp := r3.Sub(e1.p, e0.p)
-		r0, dr := path.R[k], path.R[k+1]-path.R[k]
-		ls := norm(dp) + math.Abs(dr)
-		t0, dt := path.T[k], path.T[k+1]-path.T[k]
-		stack[0] = interval{a: 0, b: 1, ga: e0.g, gb: e1.g,
-			da: r3.Dot(e0.gr, dp) - dr, db: r3.Dot(e1.gr, dp) - dr}
+	r.eval(fn, 0)
+	if n > 1 {
+		r.eval(fn, n-1)
+		cum := sc.cum[:n]
+		// Each split replaces a run by its two halves, so the stack never
+		// holds more than about log2(n) + 2 runs.
+		var spans [64]span
+		spans[0] = span{0, int32(n - 1)}
 		sp := 1
 		for sp > 0 {
 			sp--
-			it := stack[sp]
-			if !touched && it.ga <= tol {
-				// Everything before it.a has been proved clear (f > 0).
-				touched, touchT = true, t0+it.a*dt
+			i, j := int(spans[sp].i), int(spans[sp].j)
+			gi := buf[i].g
+			if !r.touched && gi <= tol {
+				// Everything before point i has been proved clear.
+				r.touched, r.touchT = true, path.T[i]
 			}
-			lb := it.lowerBound(ls, cvx)
-			if (touched || lb > 0) && lb >= best-tol {
-				lbAll = min(lbAll, lb)
+			if j == i+1 {
+				r.segment(fn, i)
 				continue
 			}
-			if refiner != nil {
-				lb = max(lb, refiner.refineBound(e0.p, dp, r0, dr, margin, it.a, it.b, it.ga, it.gb))
-				if (touched || lb > 0) && lb >= best-tol {
-					lbAll = min(lbAll, lb)
-					continue
-				}
-			}
-			w := it.b - it.a
-			if sp+2 > len(stack) || w < 1.0/(1<<maxSplitDepth) || math.IsNaN(lb) {
-				// Cannot refine further (only for absurd inputs): keep the
-				// bound, and count a possible touch as a touch.
-				lbAll = min(lbAll, lb)
-				if !touched && !(lb > 0) {
-					touched, touchT = true, t0+it.a*dt
-				}
+			gj := buf[j].g
+			lb := min(0.5*(gi+gj-(cum[j]-cum[i])), gi, gj)
+			if (r.touched || lb > 0) && lb >= r.best-tol {
+				r.lbAll = min(r.lbAll, lb)
 				continue
 			}
-			s := it.a + 0.5*w
-			sd, gr := ev.sdGrad(r3.Add(e0.p, r3.Scale(s, dp)))
-			gm := sd - (r0 + s*dr) - margin
-			dm := r3.Dot(gr, dp) - dr
-			if gm < best {
-				best, bestT = gm, t0+s*dt
-			}
-			stack[sp] = interval{a: s, b: it.b, ga: gm, gb: it.gb, da: dm, db: it.db}
-			stack[sp+1] = interval{a: it.a, b: s, ga: it.ga, gb: gm, da: it.da, db: dm}
+			mid := i + (j-i)/2
+			r.eval(fn, mid)
+			spans[sp] = span{int32(mid), int32(j)}
+			spans[sp+1] = span{int32(i), int32(mid)}
 			sp += 2
 		}
 	}
-	if !touched && buf[n-1].g <= tol {
-		touched, touchT = true, path.T[n-1]
+	if !r.touched && buf[n-1].g <= tol {
+		r.touched, r.touchT = true, path.T[n-1]
 	}
 	return SweepResult{
-		Touch:   touched,
-		TouchT:  touchT,
-		MinSep:  min(lbAll, best),
-		MinSepT: bestT,
+		Touch:   r.touched,
+		TouchT:  r.touchT,
+		MinSep:  min(r.lbAll, r.best),
+		MinSepT: r.bestT,
 	}
 }
 
-// pathBox is what the bounding-volume pre-check needs to know of a path.
+// segment searches segment k (points k and k+1 evaluated) by halving it.
+func (r *sweepRun) segment(fn shapeFns, k int) {
+	const tol = SweepTol
+	path := r.path
+	e0, e1 := &r.sc.buf[k], &r.sc.buf[k+1]
+	dp := r3.Sub(e1.p, e0.p)
+	r0, dr := path.R[k], path.R[k+1]-path.R[k]
+	if r.hasH {
+		r.evalHull(fn, k)
+		r.evalHull(fn, k+1)
+	}
+	ls := norm(dp) + math.Abs(dr)
+	t0, dt := path.T[k], path.T[k+1]-path.T[k]
+	stack := &r.sc.stack
+	stack[0] = interval{a: 0, b: 1, ga: e0.g, gb: e1.g,
+		da: r3.Dot(e0.gr, dp) - dr, db: r3.Dot(e1.gr, dp) - dr}
+	if r.hasH {
+		stack[0].ha, stack[0].hb = e0.hg, e1.hg
+		stack[0].hda, stack[0].hdb = r3.Dot(e0.hgr, dp)-dr, r3.Dot(e1.hgr, dp)-dr
+	}
+	sp := 1
+	for sp > 0 {
+		sp--
+		it := &stack[sp]
+		if !r.touched && it.ga <= tol {
+			// Everything before it.a has been proved clear (f > 0).
+			r.touched, r.touchT = true, t0+it.a*dt
+		}
+		lb := it.lowerBound(ls, r.cvx, r.hasH)
+		if it.clear {
+			// f > 0 on [a, b), f(b) = gb.
+			lb = max(lb, min(0, it.gb))
+		}
+		if (r.touched || lb > 0 || it.clear) && lb >= r.best-tol {
+			r.lbAll = min(r.lbAll, lb)
+			continue
+		}
+		// The refined bound cannot exceed the smaller end value, so it is
+		// of no use for a piece that ends at f <= 0 before the first touch
+		// (the touch is there to be found).
+		if fn.refiner != nil && (r.touched || it.clear || min(it.ga, it.gb) > 0) {
+			lb = max(lb, fn.refiner.refineBound(e0.p, dp, r0, dr, r.margin, it.a, it.b, it.ga, it.gb))
+			if (r.touched || lb > 0) && lb >= r.best-tol {
+				r.lbAll = min(r.lbAll, lb)
+				continue
+			}
+		}
+		w := it.b - it.a
+		if sp+2 > len(stack) || w < 1.0/(1<<maxSplitDepth) || math.IsNaN(lb) {
+			// Cannot refine further (only for absurd inputs): keep the
+			// bound, and count a possible touch as a touch.
+			r.lbAll = min(r.lbAll, lb)
+			if !r.touched && !(lb > 0) {
+				r.touched, r.touchT = true, t0+it.a*dt
+			}
+			continue
+		}
+		s := it.a + 0.5*w
+		newton := false
+		if !r.touched && !it.clear && it.ga > tol {
+			// Before the first touch, split where f can first reach 0
+			// (f > 0 is then proved before the split): the Lipschitz
+			// bound, and the tangent at a of f (convex) or of the convex
+			// minorant. This finds a touch in a few steps where halving
+			// needs one per bit of the touch time.
+			c := it.a + it.ga/ls
+			if r.cvx && it.da < 0 {
+				c = max(c, it.a-it.ga/it.da)
+			}
+			if r.hasH && it.ha > 0 && it.hda < 0 {
+				c = max(c, it.a-it.ha/it.hda)
+			}
+			if c > it.a && c < it.b {
+				s, newton = c, true
+			}
+		}
+		q := r3.Add(e0.p, r3.Scale(s, dp))
+		sd, gr := fn.ev.sdGrad(q)
+		off := r0 + s*dr + r.margin
+		gm := sd - off
+		dm := r3.Dot(gr, dp) - dr
+		if gm < r.best {
+			r.best, r.bestT = gm, t0+s*dt
+		}
+		left, right := *it, *it
+		right.a, right.ga, right.da, right.clear = s, gm, dm, false
+		left.b, left.gb, left.db, left.clear = s, gm, dm, newton
+		if r.hasH {
+			hs, hgr := fn.hull.sdGrad(q)
+			hm, hdm := hs-off, r3.Dot(hgr, dp)-dr
+			right.ha, right.hda = hm, hdm
+			left.hb, left.hdb = hm, hdm
+		}
+		stack[sp], stack[sp+1] = right, left
+		sp += 2
+	}
+}
+
+// pathBox is what the bounding-volume pre-checks need to know of a path.
 type pathBox struct {
 	box  AABB
 	maxR float64
-	n    int  // usable points: min of the slice lengths
-	ok   bool // every coordinate, radius and time finite
+	// c and reach: every point of the path (with its sphere) lies within
+	// reach of c: |P(t) − c| + R(t) <= reach for all t (both are convex
+	// along a segment, so the largest value is at a path point).
+	c     r3.Vec
+	reach float64
+	n     int  // usable points: min of the slice lengths
+	ok    bool // every coordinate, radius and time finite
 }
 
-func boxOfPath(path PathView) pathBox {
+// boxOfPath measures the path and, when cum is not nil (len >= n), writes
+// the cumulative Lipschitz lengths of its segments into it.
+func boxOfPath(path PathView, cum []float64) pathBox {
 	n := min(len(path.T), len(path.P), len(path.R))
 	if n == 0 {
 		return pathBox{ok: true}
 	}
-	pb := pathBox{box: AABB{Min: path.P[0], Max: path.P[0]}, maxR: path.R[0], n: n, ok: true}
+	pb := pathBox{box: AABB{Min: path.P[0], Max: path.P[0]}, maxR: path.R[0], n: n}
+	// bad is 0 while every value is finite (v − v is 0 for a finite v and
+	// NaN for NaN or ±Inf; NaN spreads through the sum).
+	bad := 0.0
 	for k := 0; k < n; k++ {
-		p := path.P[k]
+		p, r := path.P[k], path.R[k]
+		bad += (p.X - p.X) + (p.Y - p.Y) + (p.Z - p.Z) + (r - r) + (path.T[k] - path.T[k])
 		pb.box.Min.X = min(pb.box.Min.X, p.X)
 		pb.box.Min.Y = min(pb.box.Min.Y, p.Y)
 		pb.box.Min.Z = min(pb.box.Min.Z, p.Z)
 		pb.box.Max.X = max(pb.box.Max.X, p.X)
 		pb.box.Max.Y = max(pb.box.Max.Y, p.Y)
 		pb.box.Max.Z = max(pb.box.Max.Z, p.Z)
-		pb.maxR = max(pb.maxR, path.R[k])
-		if !finiteVec(p) || !finite(path.R[k]) || !finite(path.T[k]) {
-			pb.ok = false
+		pb.maxR = max(pb.maxR, r)
+		if cum != nil {
+			if k == 0 {
+				cum[0] = 0
+			} else {
+				cum[k] = cum[k-1] + norm(r3.Sub(p, path.P[k-1])) + math.Abs(r-path.R[k-1])
+			}
 		}
+	}
+	if pb.ok = bad == 0; !pb.ok {
+		return pb
+	}
+	pb.c = r3.Scale(0.5, r3.Add(pb.box.Min, pb.box.Max))
+	for k := 0; k < n; k++ {
+		pb.reach = max(pb.reach, norm(r3.Sub(path.P[k], pb.c))+path.R[k])
 	}
 	return pb
 }

@@ -380,3 +380,60 @@ func TestRefineBoundValid(t *testing.T) {
 		}
 	}
 }
+
+// forecastPath returns an n-point path like the advisory engine's
+// forecasts: 20 ms steps, a hand moving at up to 2 m/s with a gentle turn,
+// and an uncertainty radius growing from a few millimetres to up to 1 m at
+// the end (the fitted forecaster's radius grows that large during fast
+// movements).
+func forecastPath(rng *rand.Rand, b AABB, n int) PathView {
+	path := PathView{T: make([]float64, n), P: make([]r3.Vec, n), R: make([]float64, n)}
+	p := randIn(rng, b, 0.6)
+	v := r3.Scale(2*rng.Float64(), randUnit(rng))
+	turn := r3.Scale(3*rng.Float64(), randUnit(rng))
+	r0, rEnd := 0.01*rng.Float64(), rng.Float64()
+	for k := 0; k < n; k++ {
+		s := float64(k) / float64(n-1)
+		path.T[k], path.P[k], path.R[k] = 50+0.02*float64(k), p, r0+(rEnd-r0)*s*s
+		v = r3.Add(v, r3.Scale(0.02, turn))
+		p = r3.Add(p, r3.Scale(0.02, v))
+	}
+	return path
+}
+
+// TestSweepForecastPaths checks the guarantees on 26-point forecast-like
+// paths, where the search over runs of segments skips most points, for
+// every shape kind, fixed and posed, against dense sampling.
+func TestSweepForecastPaths(t *testing.T) {
+	rng := rand.New(rand.NewPCG(71, 72))
+	cases := 12
+	if testing.Short() {
+		cases = 3
+	}
+	touches, misses := 0, 0
+	for _, ns := range testShapes() {
+		for _, posed := range []bool{false, true} {
+			for i := 0; i < cases; i++ {
+				z := Zone{Name: ns.name, Shape: ns.s, Margin: 0.2 * rng.Float64()}
+				b := ns.s.Bounds()
+				if posed {
+					z.Frame = "tool"
+					z.Pose = Pose{Pos: r3.Vec{X: 2*rng.Float64() - 1, Y: 2*rng.Float64() - 1, Z: rng.Float64()},
+						Rot: RotationRPY(360*rng.Float64(), 180*rng.Float64()-90, 360*rng.Float64())}
+					b = z.Bounds()
+				}
+				path := forecastPath(rng, b, 26)
+				res := z.Sweep(path, math.Inf(1))
+				checkDense(t, fmt.Sprintf("%s posed=%v case %d", ns.name, posed, i), &z, path, res, 400)
+				if res.Touch {
+					touches++
+				} else {
+					misses++
+				}
+			}
+		}
+	}
+	if touches < 3*cases || misses < 3*cases {
+		t.Fatalf("degenerate test paths: %d touches, %d misses", touches, misses)
+	}
+}

@@ -77,17 +77,51 @@ func placeBounds(b AABB, m *mat3, pos r3.Vec) AABB {
 // allocating.
 const sweepStack = 64
 
+// zoneGeom is what a path query needs of a zone at its current pose: the
+// shape's evaluator, the rotation matrix and the placed bounds. A ZoneSet
+// keeps one per zone, renewed when the pose changes.
+type zoneGeom struct {
+	ev     evaluator
+	posed  bool
+	pose   Pose
+	m      mat3
+	bounds AABB // bounds of the shape in the cell, without the margin
+}
+
+func (g *zoneGeom) set(z *Zone) {
+	g.ev = asEvaluator(z.Shape)
+	g.posed = z.Frame != ""
+	g.pose = z.Pose
+	g.m = identityMat
+	g.bounds = z.Shape.Bounds()
+	if g.posed {
+		g.m = rotMat(z.Pose.Rot)
+		g.bounds = placeBounds(g.bounds, &g.m, z.Pose.Pos)
+	}
+}
+
+// local maps a cell point into shape coordinates.
+func (g *zoneGeom) local(p r3.Vec) r3.Vec {
+	if !g.posed {
+		return p
+	}
+	return g.m.applyT(r3.Sub(p, g.pose.Pos))
+}
+
 // Sweep answers the path query for this zone: when the path's sphere of
 // radius R(t) first comes within Margin of the shape, and the minimum
 // separation SignedDistance(P(t)) − R(t) − Margin along the path. See
 // SweepTol for the guarantees.
 //
-// cutoff makes far zones cheap: when the path's bounding box and the
-// zone's are apart and the distance between them, less the path's largest
-// radius and the margin, is at least cutoff, the result is Far with that
-// value as MinSep (a lower bound of the true minimum), MinSepT zero, and no
-// touch. Pass math.Inf(1) to always get the
-// exact answer.
+// cutoff makes far zones cheap: two bounding-volume pre-checks give lower
+// bounds of the separation, the distance between the path's bounding box
+// and the zone's (when they are apart) less the path's largest radius and
+// the margin, and the signed distance at the centre of the path's box less
+// the largest distance from there to a path point plus its radius, less
+// the margin. When the larger of the two is at least cutoff and positive
+// (so that no touch can be hidden), the result is Far with that value as
+// MinSep (a lower bound of the true minimum), MinSepT zero, and no touch. Pass math.Inf(1) to always get the exact
+// answer.
 //
 // An empty path gives Far with MinSep +Inf. A path holding a NaN or
 // infinite time, coordinate or radius cannot be judged; it is reported as
@@ -95,41 +129,46 @@ const sweepStack = 64
 // clear. Slices of unequal length are used up to the shortest. Sweep
 // allocates nothing for paths of up to 64 points.
 func (z *Zone) Sweep(path PathView, cutoff float64) SweepResult {
-	pb := boxOfPath(path)
-	var arr [sweepStack]pointEval
-	buf := arr[:]
-	if pb.n > len(buf) {
-		buf = make([]pointEval, pb.n)
+	var sc sweepScratch
+	var buf [sweepStack]pointEval
+	var cum [sweepStack]float64
+	n := min(len(path.T), len(path.P), len(path.R))
+	if n <= sweepStack {
+		sc.buf, sc.cum = buf[:n], cum[:n]
+	} else {
+		sc.grow(n)
 	}
-	return z.sweep(path, pb, cutoff, buf)
+	pb := boxOfPath(path, sc.cum)
+	var g zoneGeom
+	g.set(z)
+	return z.sweep(path, &pb, cutoff, &sc, &g)
 }
 
-func (z *Zone) sweep(path PathView, pb pathBox, cutoff float64, buf []pointEval) SweepResult {
+func (z *Zone) sweep(path PathView, pb *pathBox, cutoff float64, sc *sweepScratch, g *zoneGeom) SweepResult {
 	if pb.n == 0 {
 		return SweepResult{MinSep: math.Inf(1), Far: true}
 	}
 	if !pb.ok {
 		return SweepResult{Touch: true, TouchT: path.T[0], MinSep: math.Inf(-1), MinSepT: path.T[0]}
 	}
-	posed := z.Frame != ""
-	m := identityMat
-	zb := z.Shape.Bounds()
-	if posed {
-		m = rotMat(z.Pose.Rot)
-		zb = placeBounds(zb, &m, z.Pose.Pos)
-	}
 	// Outside the zone's bounds the signed distance is at least the
 	// distance to the bounds; inside them it may be negative, so the bound
 	// holds only when the boxes are apart.
 	lb := math.Inf(-1)
-	if d := pb.box.Distance(zb); d > 0 {
+	if d := pb.box.Distance(g.bounds); d > 0 {
 		lb = d - pb.maxR - z.Margin
 	}
-	if lb >= cutoff {
+	if lb >= cutoff && lb > 0 {
 		return SweepResult{MinSep: lb, Far: true}
 	}
-	ev := asEvaluator(z.Shape)
-	res := sweepLocal(ev, ev.convex(), path, pb.n, posed, &m, z.Pose.Pos, z.Margin, buf)
+	// The signed distance is 1-Lipschitz: at a path point P with radius
+	// R, sd(P) − R >= sd(c) − |P − c| − R >= sd(c) − reach (and along a
+	// segment |P − c| + R is convex, so largest at a point).
+	lb = max(lb, g.ev.SignedDistance(g.local(pb.c))-pb.reach-z.Margin)
+	if lb >= cutoff && lb > 0 {
+		return SweepResult{MinSep: lb, Far: true}
+	}
+	res := sweepLocal(g.ev, path, pb.n, g.posed, &g.m, g.pose.Pos, z.Margin, sc)
 	// Both are lower bounds of the true minimum; keep the tighter.
 	res.MinSep = max(res.MinSep, lb)
 	return res
@@ -161,9 +200,10 @@ func (e *ZoneError) Error() string {
 // single-threaded); the other methods only read, except SetFramePose.
 type ZoneSet struct {
 	zones   []Zone
+	geom    []zoneGeom // per zone, at its current pose
 	index   map[string]int
 	frames  []string
-	scratch []pointEval
+	scratch sweepScratch
 }
 
 // NewZoneSet checks the zones and returns them as a set (the slice is
@@ -201,7 +241,21 @@ func NewZoneSet(zs []Zone) (*ZoneSet, error) {
 		s.index[z.Name] = i
 	}
 	sort.Strings(s.frames)
+	s.geom = make([]zoneGeom, len(s.zones))
+	for i := range s.zones {
+		s.geom[i].set(&s.zones[i])
+	}
 	return s, nil
+}
+
+// geometry returns zone i's geometry at its current pose.
+func (s *ZoneSet) geometry(i int) *zoneGeom {
+	g := &s.geom[i]
+	if z := &s.zones[i]; z.Frame != "" && z.Pose != g.pose {
+		// Moved without SetFramePose (through Zone): follow it.
+		g.set(z)
+	}
+	return g
 }
 
 // Len returns the number of zones.
@@ -236,6 +290,7 @@ func (s *ZoneSet) SetFramePose(frame string, pose Pose) int {
 	for i := range s.zones {
 		if s.zones[i].Frame == frame {
 			s.zones[i].Pose = pose
+			s.geom[i].set(&s.zones[i])
 			n++
 		}
 	}
@@ -251,13 +306,11 @@ func (s *ZoneSet) Sweep(path PathView, cutoff float64, out []SweepResult) []Swee
 		out = make([]SweepResult, len(s.zones))
 	}
 	out = out[:len(s.zones)]
-	pb := boxOfPath(path)
-	if cap(s.scratch) < pb.n {
-		s.scratch = make([]pointEval, pb.n)
-	}
-	buf := s.scratch[:pb.n]
+	n := min(len(path.T), len(path.P), len(path.R))
+	s.scratch.grow(n)
+	pb := boxOfPath(path, s.scratch.cum)
 	for i := range s.zones {
-		out[i] = s.zones[i].sweep(path, pb, cutoff, buf)
+		out[i] = s.zones[i].sweep(path, &pb, cutoff, &s.scratch, s.geometry(i))
 	}
 	return out
 }
@@ -271,7 +324,8 @@ func (s *ZoneSet) SignedDistances(p r3.Vec, out []float64) []float64 {
 	}
 	out = out[:len(s.zones)]
 	for i := range s.zones {
-		out[i] = s.zones[i].SignedDistance(p)
+		g := s.geometry(i)
+		out[i] = g.ev.SignedDistance(g.local(p))
 	}
 	return out
 }
