@@ -14,18 +14,8 @@ import (
 // gains file is read relative to the configuration file.
 func ModelFromConfig(cfg *zones.Config) (forecast.Model, error) {
 	fc := &cfg.Forecast
-	kind := fc.Model
-	if kind == "" {
-		kind = forecast.KindKalmanCV
-	}
-	s := forecast.Settings{
-		Kind:             kind,
-		Window:           fc.Window.Seconds(),
-		MeasurementNoise: float64(fc.MeasurementNoise),
-		ProcessNoise:     fc.ProcessNoise,
-		Coverage:         fc.Coverage,
-	}
-	if kind == forecast.KindFitted && fc.Gains != "" {
+	var gains *forecast.Gains
+	if fc.Gains != "" && (fc.Model == "" || fc.Model == forecast.KindFitted) {
 		path := fc.Gains
 		if cfg.Source != "" && !filepath.IsAbs(path) {
 			path = filepath.Join(filepath.Dir(cfg.Source), path)
@@ -35,13 +25,11 @@ func ModelFromConfig(cfg *zones.Config) (forecast.Model, error) {
 			return nil, fmt.Errorf("forecast.gains: %w", err)
 		}
 		defer f.Close()
-		g, err := forecast.ReadGains(f, path)
-		if err != nil {
+		if gains, err = forecast.ReadGains(f, path); err != nil {
 			return nil, fmt.Errorf("forecast.gains: %w", err)
 		}
-		s.Gains = g
 	}
-	m, err := forecast.NewModel(s)
+	m, err := forecast.NewModel(policy.ModelSettings(fc, gains))
 	if err != nil {
 		return nil, fmt.Errorf("forecast: %w", err)
 	}

@@ -10,6 +10,7 @@ import (
 
 	"forereach/bus"
 	"forereach/forecast"
+	"forereach/policy"
 	"forereach/review"
 	"forereach/safety"
 	"forereach/zones"
@@ -171,7 +172,7 @@ func runMargins(args []string, stdout, stderr io.Writer) int {
 		}
 		fc := cfg.Forecast
 		fc.Model = forecast.KindFitted
-		if model, err = forecast.NewModel(review.ModelSettings(&fc, g)); err != nil {
+		if model, err = forecast.NewModel(policy.ModelSettings(&fc, g)); err != nil {
 			fmt.Fprintf(stderr, "forereach margins: --gains: %v\n", err)
 			return 1
 		}

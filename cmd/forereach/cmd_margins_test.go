@@ -29,8 +29,8 @@ func TestMarginsReferenceDistances(t *testing.T) {
 		{"100ms", "0.014", "S = K·T + C = 2000 mm/s × 0.100 s + 0 mm = 200 mm"},   // 200
 		{"200ms", "0.040", "S = K·T + C = 1600 mm/s × 0.200 s + 208 mm = 528 mm"}, // 608 > 500 → 320 + 208
 	} {
-		cell := rvCellFile(t, "stopping_time: 600ms", "stopping_time: "+c.ts, "system_latency: 60ms", "system_latency: 0s",
-			"detection_capability: 0.040", "detection_capability: "+c.d)
+		cell := rvCellFile(t, "stopping_time: 300ms", "stopping_time: "+c.ts, "system_latency: 60ms", "system_latency: 0s",
+			"detection_capability: 0.014", "detection_capability: "+c.d)
 		var out, errb bytes.Buffer
 		if code := run([]string{"margins", "-c", cell, rec}, &out, &errb); code != 0 {
 			t.Fatalf("T=%s d=%s: exit %d: %s", c.ts, c.d, code, errb.String())
@@ -45,7 +45,7 @@ func TestMarginsReferenceDistances(t *testing.T) {
 // section, and --yaml writing a zones section the loader accepts in place
 // of the file's own.
 func TestMarginsCommand(t *testing.T) {
-	cell := rvCellFile(t, "model: kalman-cv", "model: cv", "speed: 2.0", "speed: 0")
+	cell := rvCellFile(t, "model: fitted", "model: cv", "speed: 1.0", "speed: 0")
 	rec := rvRecording(t, "planted.jsonl")
 	yamlOut := filepath.Join(t.TempDir(), "zones.yaml")
 	svgOut := filepath.Join(t.TempDir(), "sweep.svg")
@@ -62,11 +62,12 @@ func TestMarginsCommand(t *testing.T) {
 	}
 	text := out.String()
 	for _, want := range []string{
-		"Horizon the cell needs: 660 ms = robot stopping time 600 ms + system latency 60 ms",
-		// vr = 0 here, Ss = 0.55 m given: Sh = 1.6·(0.1 + 0.06 + 0.6) =
-		// 1.216 m, Sr = 0, Sp = 1.216 + 0.55 + 0.208 + 0.05 + 0.02 = 2.044 m
+		"Horizon the cell needs: 360 ms = robot stopping time 300 ms + system latency 60 ms",
+		// vr = 0 here, Ss = 0.20 m given, C = 0 (d = 14 mm): Sh =
+		// 1.6·(0.1 + 0.06 + 0.3) = 0.736 m, Sr = 0,
+		// Sp = 0.736 + 0 + 0.20 + 0 + 0.05 + 0.02 = 1.006 m
 		// (ISO/TS 15066:2016 5.5.4).
-		"Sweep: robot-envelope", "= 1216 + 0 + 550 + 208 + 50 + 20 = 2044 mm", "zones:\n  - name: \"robot-envelope\"",
+		"Sweep: robot-envelope", "= 736 + 0 + 200 + 0 + 50 + 20 = 1006 mm", "zones:\n  - name: \"robot-envelope\"",
 		"ADVISORY ONLY",
 	} {
 		if !strings.Contains(text, want) {
@@ -106,7 +107,7 @@ func TestMarginsCommand(t *testing.T) {
 	if err := json.Unmarshal(out.Bytes(), &res); err != nil {
 		t.Fatal(err)
 	}
-	if math.Abs(res.Horizon-0.66) > 1e-9 || len(res.Zones) != 9 || res.Zones[0].Entries != 3 || len(res.Zones[0].Sweep) != 101 ||
+	if math.Abs(res.Horizon-0.36) > 1e-9 || len(res.Zones) != 9 || res.Zones[0].Entries != 3 || len(res.Zones[0].Sweep) != 101 ||
 		!strings.HasPrefix(res.YAML, "zones:\n") {
 		t.Errorf("JSON: horizon %g, %d zones, first %+v", res.Horizon, len(res.Zones), res.Zones[0].Entries)
 	}

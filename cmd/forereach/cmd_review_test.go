@@ -94,7 +94,7 @@ func rvRecording(t *testing.T, name string) string {
 // plantedCellFile is the example cell with the hold forecast and no robot
 // speed (see the review package's planted test for why).
 func plantedCellFile(t *testing.T) string {
-	return rvCellFile(t, "model: kalman-cv", "model: hold", "speed: 2.0", "speed: 0")
+	return rvCellFile(t, "model: fitted", "model: hold", "speed: 1.0", "speed: 0")
 }
 
 func TestReviewCommand(t *testing.T) {
@@ -106,7 +106,7 @@ func TestReviewCommand(t *testing.T) {
 	}
 	text := out.String()
 	for _, want := range []string{
-		"Summary: 3 entries (1 missed, 2 warned less than 660 ms ahead), 1 near misses (closer than 100 mm), 1 false alarms of 5 warning episodes (window 2 s), 2 tracking losses",
+		"Summary: 3 entries (1 missed, 2 warned less than 360 ms ahead), 1 near misses (closer than 100 mm), 1 false alarms of 5 warning episodes (window 2 s), 2 tracking losses",
 		"Zone entries (3)", "MISSED", "Near misses (1)", "Tracking-loss episodes (2)", "— (not near a zone)",
 		strings.SplitN(safety.Notice, "\n", 2)[0],
 	} {
