@@ -19,8 +19,9 @@ func init() {
 Fits the fitted forecast model on the recordings: for each horizon, the
 displacement of the hand is a linear combination of kinematic terms (see
 forecast.FeatureSet), with one set of gains per horizon, fitted by ridge
-least squares. The uncertainty radius is a speed- and acceleration-scaled
-scale times the quantiles of the error seen in cross-validation.
+least squares. The uncertainty radius is a scale (from the hand's recent
+speed, acceleration and change of velocity, and the tracker's noise) times
+the quantiles of the error seen in cross-validation.
 
 The gains file (YAML) records what it was fitted on (files, sample rate,
 horizons, date), the gains, and per horizon the errors seen in grouped
