@@ -22,14 +22,14 @@ type windowSpec struct {
 const maxWindows = 8
 
 // fitMany does what history.fit does for every window of specs (at most
-// maxWindows of them), writing out[w] for specs[w], but in one pass over the
-// samples: the power sums Σ τ^k and Σ τ^k·p (τ the time before the latest
+// maxWindows of them), writing out[w] for specs[w], but the windows share the
+// work: the power sums Σ τ^k and Σ τ^k·p (τ the time before the latest
 // sample, p relative to the latest position) of a window are the running
-// sums at its last sample, so the windows share the work. Each window's
-// sums are then scaled to u = τ/span, as in history.fit, and solved there.
-// The results equal history.fit's to rounding (tests check 1e-9 m). It
-// reports false when any fit fails (too few samples, repeated times, a
-// singular system). It does not allocate.
+// sums at its last sample, so one walk back through the samples serves them
+// all. Each window's sums are then scaled to u = τ/span, as in history.fit,
+// and solved there. The results equal history.fit's to rounding (tests check
+// 1e-9 m). It reports false when any fit fails (too few samples, repeated
+// times, a singular system). It does not allocate.
 func (h *history) fitMany(specs []windowSpec, out []polyFit) bool {
 	nw := len(specs)
 	if nw > maxWindows || len(out) < nw {
@@ -83,19 +83,22 @@ func (h *history) fitMany(specs []windowSpec, out []polyFit) bool {
 		}
 		order[j] = w
 	}
-	// One pass of running sums (fused multiply-adds); each window is solved
-	// at its last sample.
-	var s0, s1, s2, s3, s4, s5, s6, ss float64 // locals, to stay in registers
-	var b0x, b0y, b0z, b1x, b1y, b1z, b2x, b2y, b2z, b3x, b3y, b3z float64
+	// Running sums in three passes over the same samples (the time powers,
+	// then the x and y moments, then the z moments: few enough running sums
+	// in each to stay in registers), each saved at every window's last
+	// sample; then each window is solved.
+	var sums [maxWindows]windowSums
+	var spans [maxWindows]float64
 	next := 0
+	var s0, s1, s2, s3, s4, s5, s6, ss float64
 	for i := 0; i < maxN; i++ {
 		j := (last - i) & mask
 		t1 := h.t[j] - tl
-		p := h.p[j]
-		px, py, pz := p.X-pl.X, p.Y-pl.Y, p.Z-pl.Z
 		t2 := t1 * t1
 		t3 := t2 * t1
 		if i < nss {
+			p := h.p[j]
+			px, py, pz := p.X-pl.X, p.Y-pl.Y, p.Z-pl.Z
 			ss = math.FMA(px, px, math.FMA(py, py, math.FMA(pz, pz, ss)))
 		}
 		s0++
@@ -105,29 +108,58 @@ func (h *history) fitMany(specs []windowSpec, out []polyFit) bool {
 		s4 = math.FMA(t3, t1, s4)
 		s5 = math.FMA(t3, t2, s5)
 		s6 = math.FMA(t3, t3, s6)
-		b0x += px
-		b0y += py
-		b0z += pz
-		b1x = math.FMA(t1, px, b1x)
-		b1y = math.FMA(t1, py, b1y)
-		b1z = math.FMA(t1, pz, b1z)
-		b2x = math.FMA(t2, px, b2x)
-		b2y = math.FMA(t2, py, b2y)
-		b2z = math.FMA(t2, pz, b2z)
-		b3x = math.FMA(t3, px, b3x)
-		b3y = math.FMA(t3, py, b3y)
-		b3z = math.FMA(t3, pz, b3z)
 		for next < nw && ns[order[next]] == i+1 {
 			w := order[next]
-			sm := windowSums{
-				s:  [2*MaxDegree + 1]float64{s0, s1, s2, s3, s4, s5, s6},
-				b:  [MaxDegree + 1]r3.Vec{{X: b0x, Y: b0y, Z: b0z}, {X: b1x, Y: b1y, Z: b1z}, {X: b2x, Y: b2y, Z: b2z}, {X: b3x, Y: b3y, Z: b3z}},
-				ss: ss,
-			}
-			if !sm.solve(&specs[w], &out[w], i+1, -t1, pl) {
-				return false
-			}
+			sums[w].s = [2*MaxDegree + 1]float64{s0, s1, s2, s3, s4, s5, s6}
+			sums[w].ss = ss
+			spans[w] = -t1
 			next++
+		}
+	}
+	next = 0
+	var b0x, b1x, b2x, b3x, b0y, b1y, b2y, b3y float64
+	for i := 0; i < maxN; i++ {
+		j := (last - i) & mask
+		t1 := h.t[j] - tl
+		t2 := t1 * t1
+		t3 := t2 * t1
+		px, py := h.p[j].X-pl.X, h.p[j].Y-pl.Y
+		b0x += px
+		b1x = math.FMA(t1, px, b1x)
+		b2x = math.FMA(t2, px, b2x)
+		b3x = math.FMA(t3, px, b3x)
+		b0y += py
+		b1y = math.FMA(t1, py, b1y)
+		b2y = math.FMA(t2, py, b2y)
+		b3y = math.FMA(t3, py, b3y)
+		for next < nw && ns[order[next]] == i+1 {
+			b := &sums[order[next]].b
+			b[0].X, b[1].X, b[2].X, b[3].X = b0x, b1x, b2x, b3x
+			b[0].Y, b[1].Y, b[2].Y, b[3].Y = b0y, b1y, b2y, b3y
+			next++
+		}
+	}
+	next = 0
+	var b0z, b1z, b2z, b3z float64
+	for i := 0; i < maxN; i++ {
+		j := (last - i) & mask
+		t1 := h.t[j] - tl
+		t2 := t1 * t1
+		t3 := t2 * t1
+		pz := h.p[j].Z - pl.Z
+		b0z += pz
+		b1z = math.FMA(t1, pz, b1z)
+		b2z = math.FMA(t2, pz, b2z)
+		b3z = math.FMA(t3, pz, b3z)
+		for next < nw && ns[order[next]] == i+1 {
+			b := &sums[order[next]].b
+			b[0].Z, b[1].Z, b[2].Z, b[3].Z = b0z, b1z, b2z, b3z
+			next++
+		}
+	}
+	for w := 0; w < nw; w++ {
+		if !sums[w].solve(&specs[w], &out[w], ns[w], spans[w], pl) {
+			return false
 		}
 	}
 	return true
