@@ -28,6 +28,20 @@ const (
 	DefaultMaxSpeed = 10.0
 	// DefaultMaxTracks bounds the number of tracks one engine keeps.
 	DefaultMaxTracks = 64
+	// ForecastWarmUp (s) is how much history a track needs before its
+	// forecast is used: until then, and again after the forecaster was
+	// reset (a gap longer than forecast.gap_reset, or a tracking loss),
+	// the forecast is the measured position alone, with no uncertainty
+	// radius. The position rules (inside, sep_below, the protective
+	// separation distance) apply from the first sample; an entry_within
+	// rule then fires only when the hand is already within the zone's
+	// margin. A forecaster's first predictions are not usable: a Kalman
+	// filter starts from a prior of hand speeds (its first radius at the
+	// end of a 500 ms horizon is about 12 m, and it settles within a few
+	// samples, well within 100 ms at 100–240 Hz), and the fitted model
+	// itself waits for 100 ms of history. Our choice; a test checks the
+	// Kalman filters' radii against it.
+	ForecastWarmUp = 0.1
 )
 
 // Built-in default rules, used when the policy section names none:
@@ -116,6 +130,7 @@ type track struct {
 	lastT   float64
 	lastP   r3.Vec
 	has     bool
+	since   float64 // first sample since the forecaster was (re)started
 	lead    float64
 	ownLead bool // lead set by SetLatency for this track
 	lost    bool
@@ -439,7 +454,9 @@ func (e *Engine) newTrack(id string) (*track, bool) {
 // after the track's previous sample, an implied speed above max_speed: such
 // samples are rejected, counted and reported as EventRejected), then the
 // track's path is forecast and swept through the zones, the rules are
-// applied and the cell advisory is updated.
+// applied and the cell advisory is updated. For the first ForecastWarmUp
+// seconds of a track, and again after its forecaster was reset, the
+// forecast is the measured position alone (see ForecastWarmUp).
 //
 // The speed check compares with the track's previous accepted sample; it is
 // skipped for the first sample of a track and for the first sample after the
@@ -487,18 +504,31 @@ func (e *Engine) Sample(s forecast.Sample) {
 	}
 	e.stats.Accepted++
 	e.advanceTo(s.T)
+	restart := !tr.has
 	if tr.lost {
 		tr.lost = false
 		tr.ft.Reset()
+		restart = true
 		e.emit(Event{Kind: EventTrackingRegained, T: s.T, Track: tr.id})
 	}
-	tr.ft.Add(s.T, s.P)
+	if tr.ft.Add(s.T, s.P) == forecast.AfterGap || restart {
+		tr.since = s.T
+	}
 	tr.lastT, tr.lastP, tr.has = s.T, s.P, true
-	if !tr.ft.F.Predict(&tr.path, e.horizon(tr)) || tr.path.Len() == 0 {
+	h := e.horizon(tr)
+	ok := tr.ft.F.Predict(&tr.path, h) && tr.path.Len() > 0
+	if ok && s.T-tr.since < ForecastWarmUp && pathFinite(&tr.path) {
+		// Warming up (see ForecastWarmUp). A forecast holding a NaN or
+		// an infinite position or time is a broken forecaster, not an
+		// uncertain one: it goes on to the sweep, which never reads it
+		// as clear.
+		ok = false
+	}
+	if !ok {
 		// Too little history: the path is the measured point itself, at
 		// the present (sample time plus lead), with no uncertainty radius.
 		tr.path.Resize(1)
-		tr.path.T[0] = s.T + e.horizon(tr).Lead
+		tr.path.T[0] = s.T + h.Lead
 		tr.path.P[0] = s.P
 		tr.path.R[0] = 0
 	}
@@ -583,6 +613,17 @@ func (e *Engine) checkRobot(st RobotState) error {
 }
 
 func finite(v float64) bool { return !math.IsNaN(v) && !math.IsInf(v, 0) }
+
+// pathFinite reports whether every time and position of p is finite (the
+// radii are not looked at).
+func pathFinite(p *forecast.Path) bool {
+	for k := range p.T {
+		if !finite(p.T[k]) || !finite(p.P[k].X) || !finite(p.P[k].Y) || !finite(p.P[k].Z) {
+			return false
+		}
+	}
+	return true
+}
 
 // advanceTo moves the engine's time forward to t (never back).
 func (e *Engine) advanceTo(t float64) {
