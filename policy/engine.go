@@ -112,6 +112,8 @@ type pair struct {
 
 	// warning episode: the pair has requested reduce or hold since
 	// warnStart; it lapses when no request was made for the release time.
+	// A tracking loss ends it; the fail-safe hold then starts a new one for
+	// the zones the track was near (see staleCheck).
 	warning   bool
 	warnStart float64
 	lastWarn  float64
@@ -509,6 +511,12 @@ func (e *Engine) Sample(s forecast.Sample) {
 		tr.lost = false
 		tr.ft.Reset()
 		restart = true
+		// The fail-safe hold lasted until now: its warnings are current.
+		for z := range tr.pairs {
+			if p := &tr.pairs[z]; p.warning {
+				p.lastWarn = s.T
+			}
+		}
 		e.emit(Event{Kind: EventTrackingRegained, T: s.T, Track: tr.id})
 	}
 	if tr.ft.Add(s.T, s.P) == forecast.AfterGap || restart {
@@ -542,6 +550,13 @@ func (e *Engine) Sample(s forecast.Sample) {
 // longer than stale_after are declared lost (fail-safe hold when they were
 // near a zone), and the advisory is re-evaluated, which releases it when the
 // release time has passed. Times earlier than the engine's time are ignored.
+//
+// A loss ends the track's warning episodes, which give entries their lead
+// times: the fail-safe hold starts new ones, from the loss, for the zones
+// the track was near (requesting, closer than near_track, or the nearest,
+// which the hold names), so that an entry after the loss counts its lead
+// from the hold; for other zones the lead counts from the first warning
+// after the track was regained.
 func (e *Engine) Advance(t float64) {
 	if !finite(t) || (e.started && t < e.now) {
 		return
@@ -822,14 +837,26 @@ func (e *Engine) endApproach(tr *track, z int, t float64) {
 
 // staleCheck declares tracks silent for longer than stale_after lost, and
 // keeps the fail-safe request of lost tracks alive.
+//
+// A loss ends every warning episode of the track: what was warned before
+// the loss says nothing about what the hand does when it is seen again.
+// When the track was near a zone, the fail-safe hold is a warning for the
+// lead times of the zones it was near (requesting, or closer than
+// near_track, and the nearest zone, which the hold names): the hold was in
+// force from the loss, so an entry after it, even one seen only when the
+// hand reappears inside, counts its lead from the loss. Otherwise the lead
+// of an entry after the loss counts from the first warning after the track
+// was regained.
 func (e *Engine) staleCheck() {
 	for _, tr := range e.tracks {
 		if !tr.has {
 			continue
 		}
 		if tr.lost {
-			if tr.nearest >= 0 && tr.pairs[tr.nearest].step == e.hold {
-				tr.pairs[tr.nearest].lastWarn = e.now
+			for z := range tr.pairs {
+				if p := &tr.pairs[z]; p.warning {
+					p.lastWarn = e.now
+				}
 			}
 			continue
 		}
@@ -844,6 +871,10 @@ func (e *Engine) staleCheck() {
 		near := tr.near && tr.nearest >= 0
 		for z := range tr.pairs {
 			p := &tr.pairs[z]
+			p.warning = near && (p.step > 0 || tr.sep[z] < e.nearTrack || z == tr.nearest)
+			if p.warning {
+				p.warnStart, p.lastWarn = e.now, e.now
+			}
 			p.step = 0
 			p.reason.Rule, p.reason.Level, p.reason.Scale, p.reason.Required = "", LevelClear, 1, 0
 		}
@@ -853,10 +884,6 @@ func (e *Engine) staleCheck() {
 			p.step = e.hold
 			p.reason = Reason{Track: tr.id, Zone: e.zones[tr.nearest].name, Rule: RuleTrackingLost, Level: LevelHold,
 				TimeToEntry: -1, Separation: p.reason.Separation, MinSeparation: p.reason.MinSeparation}
-			if !p.warning {
-				p.warning, p.warnStart = true, e.now
-			}
-			p.lastWarn = e.now
 			ev.Zone = e.zones[tr.nearest].name
 			ev.Separation = p.reason.Separation
 		} else {

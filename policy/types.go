@@ -239,9 +239,12 @@ type Event struct {
 	Track string
 	Zone  string
 
-	// Entry: Lead = entry time − start of the first reduce/hold request of
-	// this track for this zone (HasLead); Missed when there was none or the
-	// lead is not positive.
+	// Entry: Lead = entry time − start of the warning episode of this
+	// track for this zone (HasLead): its requests of reduce or hold, none
+	// of them more than the release time after the previous one. A
+	// tracking loss ends the episode; the fail-safe hold starts a new one
+	// at the loss for the zones the track was near (see Engine.Advance).
+	// Missed when there was none or the lead is not positive.
 	Lead    float64
 	HasLead bool
 	Missed  bool
