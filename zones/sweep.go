@@ -379,49 +379,71 @@ type pathBox struct {
 	box  AABB
 	maxR float64
 	// c and reach: every point of the path (with its sphere) lies within
-	// reach of c: |P(t) − c| + R(t) <= reach for all t (both are convex
-	// along a segment, so the largest value is at a path point).
+	// reach of c: |P(t) − c| + R(t) <= reach for all t. c is the centre of
+	// the box and reach its half diagonal plus the largest radius.
 	c     r3.Vec
 	reach float64
 	n     int  // usable points: min of the slice lengths
 	ok    bool // every coordinate, radius and time finite
 }
 
-// boxOfPath measures the path and, when cum is not nil (len >= n), writes
-// the cumulative Lipschitz lengths of its segments into it.
+// boxOfPath measures the path and writes
+// the cumulative Lipschitz lengths of its segments into it when it has room
+// for them.
 func boxOfPath(path PathView, cum []float64) pathBox {
 	n := min(len(path.T), len(path.P), len(path.R))
 	if n == 0 {
 		return pathBox{ok: true}
 	}
-	pb := pathBox{box: AABB{Min: path.P[0], Max: path.P[0]}, maxR: path.R[0], n: n}
+	ps, rs, ts := path.P[:n], path.R[:n], path.T[:n]
+	lo, hi, maxR := ps[0], ps[0], rs[0]
 	// bad is 0 while every value is finite (v − v is 0 for a finite v and
 	// NaN for NaN or ±Inf; NaN spreads through the sum).
 	bad := 0.0
-	for k := 0; k < n; k++ {
-		p, r := path.P[k], path.R[k]
-		bad += (p.X - p.X) + (p.Y - p.Y) + (p.Z - p.Z) + (r - r) + (path.T[k] - path.T[k])
-		pb.box.Min.X = min(pb.box.Min.X, p.X)
-		pb.box.Min.Y = min(pb.box.Min.Y, p.Y)
-		pb.box.Min.Z = min(pb.box.Min.Z, p.Z)
-		pb.box.Max.X = max(pb.box.Max.X, p.X)
-		pb.box.Max.Y = max(pb.box.Max.Y, p.Y)
-		pb.box.Max.Z = max(pb.box.Max.Z, p.Z)
-		pb.maxR = max(pb.maxR, r)
-		if cum != nil {
-			if k == 0 {
-				cum[0] = 0
-			} else {
-				cum[k] = cum[k-1] + norm(r3.Sub(p, path.P[k-1])) + math.Abs(r-path.R[k-1])
-			}
+	for k, p := range ps {
+		r := rs[k]
+		bad += (p.X - p.X) + (p.Y - p.Y) + (p.Z - p.Z) + (r - r) + (ts[k] - ts[k])
+		// Plain comparisons: the built-in min and max order NaNs and
+		// signed zeros, which costs here and is not needed (a NaN marks
+		// the path bad anyway).
+		if p.X < lo.X {
+			lo.X = p.X
+		}
+		if p.X > hi.X {
+			hi.X = p.X
+		}
+		if p.Y < lo.Y {
+			lo.Y = p.Y
+		}
+		if p.Y > hi.Y {
+			hi.Y = p.Y
+		}
+		if p.Z < lo.Z {
+			lo.Z = p.Z
+		}
+		if p.Z > hi.Z {
+			hi.Z = p.Z
+		}
+		if r > maxR {
+			maxR = r
 		}
 	}
-	if pb.ok = bad == 0; !pb.ok {
+	pb := pathBox{box: AABB{Min: lo, Max: hi}, maxR: maxR, n: n, ok: bad == 0}
+	if !pb.ok {
 		return pb
 	}
-	pb.c = r3.Scale(0.5, r3.Add(pb.box.Min, pb.box.Max))
-	for k := 0; k < n; k++ {
-		pb.reach = max(pb.reach, norm(r3.Sub(path.P[k], pb.c))+path.R[k])
+	pb.c = r3.Scale(0.5, r3.Add(lo, hi))
+	pb.reach = 0.5*norm(r3.Sub(hi, lo)) + maxR
+	if len(cum) >= n {
+		cum = cum[:n]
+		cum[0] = 0
+		for k := 1; k < n; k++ {
+			dr := rs[k] - rs[k-1]
+			if dr < 0 {
+				dr = -dr
+			}
+			cum[k] = cum[k-1] + norm(r3.Sub(ps[k], ps[k-1])) + dr
+		}
 	}
 	return pb
 }
