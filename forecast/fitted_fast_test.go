@@ -1,8 +1,11 @@
 package forecast
 
 import (
+	"fmt"
 	"math"
 	"math/rand/v2"
+	"slices"
+	"strings"
 	"testing"
 
 	"gonum.org/v1/gonum/spatial/r3"
@@ -161,6 +164,73 @@ func TestFitManyMatchesFit(t *testing.T) {
 		}
 		if n < 400 {
 			t.Fatalf("dt %g: only %d fits compared", dt, n)
+		}
+	}
+}
+
+// The residual sum of squares of given gains, from the normal equations
+// alone (yᵀy − 2gᵀXᵀy + gᵀXᵀXg), equals the sum of the squared residuals
+// computed example by example.
+func TestNormalEqRSS(t *testing.T) {
+	rng := rand.New(rand.NewPCG(11, 12))
+	rv := func() r3.Vec { return vec(rng.NormFloat64(), rng.NormFloat64(), rng.NormFloat64()) }
+	var a normalEq
+	g := [NumFeatures]float64{0.8, -0.3, 1.7}
+	direct := 0.0
+	for i := 0; i < 500; i++ {
+		var f [NumFeatures]r3.Vec
+		for j := range f {
+			f[j] = rv()
+		}
+		d := rv()
+		a.add(&f, d)
+		p := d
+		for j := range f {
+			p = r3.Sub(p, r3.Scale(g[j], f[j]))
+		}
+		direct += r3.Norm2(p)
+	}
+	if got := a.rss(&g); math.Abs(got-direct) > 1e-9*direct {
+		t.Fatalf("rss from the normal equations %g, example by example %g", got, direct)
+	}
+}
+
+// With RidgeCV, Fit chooses each horizon's ridge from RidgeGrid and records
+// it; with a fixed ridge it records that one. Synthetic tracks of three
+// groups (the same smooth paths at three speeds, with noise).
+func TestFitRidgeChoiceRecorded(t *testing.T) {
+	rng := rand.New(rand.NewPCG(13, 14))
+	var files []FitFile
+	for gi, speed := range []float64{1, 2, 3} {
+		var tr TrackData
+		tr.Name = "h"
+		for i := 0; i < 1200; i++ {
+			ti := float64(i) / 120
+			tr.T = append(tr.T, ti)
+			tr.P = append(tr.P, r3.Add(handPath(speed*ti), vec(0.001*rng.NormFloat64(), 0.001*rng.NormFloat64(), 0.001*rng.NormFloat64())))
+		}
+		files = append(files, FitFile{Name: fmt.Sprintf("g%d_1.csv", gi), Group: fmt.Sprintf("g%d", gi), Tracks: []TrackData{tr}})
+	}
+	hs := []float64{0.1, 0.3}
+	res, err := Fit(files, FitOptions{Horizons: hs, RidgeCV: true})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if res.Gains.Fitted.Ridge != 0 || !strings.Contains(res.Gains.Fitted.Method, "nested") {
+		t.Errorf("provenance: ridge %g, method %q", res.Gains.Fitted.Ridge, res.Gains.Fitted.Method)
+	}
+	for _, h := range res.Gains.Horizons {
+		if !slices.Contains(RidgeGrid, h.Ridge) {
+			t.Errorf("%g ms: ridge %g is not one of %v", h.MS, h.Ridge, RidgeGrid)
+		}
+	}
+	res, err = Fit(files, FitOptions{Horizons: hs})
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, h := range res.Gains.Horizons {
+		if h.Ridge != DefaultRidge || res.Gains.Fitted.Ridge != DefaultRidge {
+			t.Errorf("%g ms: ridge %g, provenance %g, want the default %g", h.MS, h.Ridge, res.Gains.Fitted.Ridge, DefaultRidge)
 		}
 	}
 }

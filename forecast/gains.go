@@ -31,8 +31,9 @@ type Gains struct {
 type Provenance struct {
 	Date         string     `yaml:"date"` // as given to Fit (the core reads no clock)
 	Tool         string     `yaml:"tool,omitempty"`
-	SampleRateHz float64    `yaml:"sample_rate_hz"` // median over the files
-	Ridge        float64    `yaml:"ridge"`
+	SampleRateHz float64    `yaml:"sample_rate_hz"`   // median over the files
+	Ridge        float64    `yaml:"ridge"`            // relative ridge penalty; 0: chosen per horizon (HorizonGains.Ridge)
+	Method       string     `yaml:"method,omitempty"` // how the gains were fitted
 	Folds        string     `yaml:"folds"`
 	Files        []FileInfo `yaml:"files"`
 	Credit       string     `yaml:"credit,omitempty"`
@@ -49,8 +50,9 @@ type FileInfo struct {
 // HorizonGains are the fitted values at one horizon.
 type HorizonGains struct {
 	MS    float64   `yaml:"ms"`
-	Gains []float64 `yaml:"gains"` // one per feature
-	Scale []float64 `yaml:"scale"` // one per scale term
+	Ridge float64   `yaml:"ridge,omitempty"` // the relative ridge penalty the gains were fitted with
+	Gains []float64 `yaml:"gains"`           // one per feature
+	Scale []float64 `yaml:"scale"`           // one per scale term
 	// RadiusZ are quantiles, at Levels, of the error divided by the scale,
 	// seen in cross-validation.
 	RadiusZ []float64 `yaml:"radius_z"`

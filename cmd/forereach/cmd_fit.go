@@ -4,6 +4,8 @@ import (
 	"errors"
 	"fmt"
 	"io"
+	"math"
+	"strconv"
 	"strings"
 	"time"
 
@@ -38,7 +40,8 @@ groups only. A summary of those errors is printed on standard output.
                    out) or a number N (N folds of files). At least two
                    groups are needed.
   --ridge X        ridge penalty relative to the mean diagonal of the normal
-                   matrix (default 0.001)
+                   matrix (default 1e-06), or auto: chosen per horizon by
+                   nested cross-validation over the groups
   --gap D          a gap longer than D resets a track (default 250ms)
   --date DATE      the date recorded in the file (default: today, UTC)
   --credit TEXT    a credit line for the data, recorded in the file
@@ -60,7 +63,7 @@ func runFit(args []string, stdout, stderr io.Writer) int {
 	horizonList := fs.String("horizons", "50ms,100ms,150ms,200ms,250ms,300ms,350ms,400ms,450ms,500ms", "horizons")
 	out := fs.String("out", "gains.yaml", "gains file to write")
 	folds := fs.String("folds", "prefix", "cross-validation groups: prefix, file or N")
-	ridge := fs.Float64("ridge", forecast.DefaultRidge, "relative ridge penalty")
+	ridgeFlag := fs.String("ridge", strconv.FormatFloat(forecast.DefaultRidge, 'g', -1, 64), "relative ridge penalty, or auto")
 	gap := fs.Duration("gap", 250*time.Millisecond, "gap that resets a track")
 	date := fs.String("date", "", "date recorded in the gains file")
 	credit := fs.String("credit", "", "credit line for the data")
@@ -83,8 +86,14 @@ func runFit(args []string, stdout, stderr io.Writer) int {
 	if err != nil {
 		return usageErr(err)
 	}
-	if !(*ridge > 0) || *gap <= 0 {
-		return usageErr(errors.New("--ridge and --gap must be > 0"))
+	ridge, ridgeCV := 0.0, *ridgeFlag == "auto"
+	if !ridgeCV {
+		if ridge, err = strconv.ParseFloat(*ridgeFlag, 64); err != nil || !(ridge > 0) || math.IsInf(ridge, 0) {
+			return usageErr(fmt.Errorf("--ridge: %q: want auto or a number > 0", *ridgeFlag))
+		}
+	}
+	if *gap <= 0 {
+		return usageErr(errors.New("--gap must be > 0"))
 	}
 	opt, err := rec.options()
 	if err != nil {
@@ -102,7 +111,7 @@ func runFit(args []string, stdout, stderr io.Writer) int {
 		return usageErr(err)
 	}
 	res, err := forecast.Fit(files, forecast.FitOptions{
-		Horizons: hs, Ridge: *ridge, GapReset: gap.Seconds(),
+		Horizons: hs, Ridge: ridge, RidgeCV: ridgeCV, GapReset: gap.Seconds(),
 		Date: *date, Tool: "forereach " + version + " fit", Credit: *credit,
 		Progress: func(stage string, done, total int) { prog.show("fit: "+stage, done, total) },
 	})
