@@ -100,8 +100,9 @@ type step struct {
 
 type zoneMeta struct {
 	name  string
-	robot bool  // attached to a robot frame
-	rules []int // indices into Engine.rules
+	frame string // robot frame the zone is attached to, "" when fixed
+	robot bool   // attached to a robot frame
+	rules []int  // indices into Engine.rules
 }
 
 // pair is the state of one track against one zone.
@@ -141,6 +142,14 @@ type track struct {
 	sep     []float64
 	sweep   []zones.SweepResult
 	pairs   []pair
+
+	// Temporal coherence of the sweeps (see assess): the path last swept
+	// (positions and radii), and per zone a lower bound of the minimum
+	// separation along it.
+	prevP []r3.Vec
+	prevR []float64
+	lb    []float64
+	skip  []bool
 }
 
 // Engine is the advisory engine of one cell. It is not safe for concurrent
@@ -193,6 +202,17 @@ type Engine struct {
 	arena    [2][]Reason
 	arenaIdx int
 	stats    Stats
+
+	// fullSweep turns the temporal coherence of the sweeps off (tests
+	// compare the two); skipped counts the zone sweeps it saved.
+	fullSweep bool
+	skipped   uint64
+
+	// last protective separation distance computed (inputs and result)
+	psdIn  safety.SeparationInputs
+	psdSp  float64
+	psdOK  bool
+	psdHas bool
 }
 
 func newEngine(cfg *zones.Config, zs zoneSource, model forecast.Model, opts Options) (*Engine, error) {
@@ -283,7 +303,7 @@ func newEngine(cfg *zones.Config, zs zoneSource, model forecast.Model, opts Opti
 	e.zones = make([]zoneMeta, n)
 	for i := 0; i < n; i++ {
 		name, frame, names := zs.info(i)
-		zm := zoneMeta{name: name, robot: frame != ""}
+		zm := zoneMeta{name: name, frame: frame, robot: frame != ""}
 		if frame != "" {
 			e.frames[frame] = true
 		}
@@ -435,14 +455,22 @@ func (e *Engine) newTrack(id string) (*track, bool) {
 		return nil, false
 	}
 	n := len(e.zones)
+	np := forecast.Horizon{Step: e.step, Span: e.span}.Points()
 	tr := &track{
 		id:    id,
 		ft:    forecast.NewTrack(e.model, e.gapReset),
 		sep:   make([]float64, n),
 		sweep: make([]zones.SweepResult, n),
 		pairs: make([]pair, n),
+		prevP: make([]r3.Vec, 0, np),
+		prevR: make([]float64, 0, np),
+		lb:    make([]float64, n),
+		skip:  make([]bool, n),
 	}
-	tr.path.Resize(forecast.Horizon{Step: e.step, Span: e.span}.Points())
+	for i := range tr.lb {
+		tr.lb[i] = math.Inf(-1)
+	}
+	tr.path.Resize(np)
 	tr.path.Resize(0)
 	for i := range tr.pairs {
 		tr.pairs[i].reason = Reason{Track: id, Zone: e.zones[i].name, TimeToEntry: -1}
@@ -582,6 +610,14 @@ func (e *Engine) Robot(st RobotState) error {
 			e.reject(e.now, "", RejectRobotState, 0)
 			return fmt.Errorf("policy: robot state at %v s: %w", st.T, err)
 		}
+		// The zones of the frame moved: what was known of them is void.
+		for z := range e.zones {
+			if e.zones[z].frame == f.Frame {
+				for _, tr := range e.tracks {
+					tr.lb[z] = math.Inf(-1)
+				}
+			}
+		}
 	}
 	e.stats.RobotStates++
 	e.robotT, e.hasRobotT = st.T, true
@@ -685,6 +721,51 @@ func (e *Engine) separationData(tr *track) (safety.SeparationInputs, bool) {
 	return in, true
 }
 
+// protectiveSeparation returns the protective separation distance Sp for
+// a track, when the robot's data are known. The last inputs and result are
+// kept: the inputs rarely change from one sample to the next.
+func (e *Engine) protectiveSeparation(tr *track) (float64, bool) {
+	in, ok := e.separationData(tr)
+	if !ok {
+		return 0, false
+	}
+	if !e.psdHas || in != e.psdIn {
+		s, err := safety.ProtectiveSeparation(in)
+		e.psdIn, e.psdSp, e.psdOK, e.psdHas = in, s.Sp, err == nil, true
+	}
+	return e.psdSp, e.psdOK
+}
+
+// pathShift bounds how much closer to any point the swept sphere of path p
+// can come than that of the previous path (positions prevP, radii prevR)
+// at the same place on the path: max_k |P_k − prevP_k| + max_k (R_k −
+// prevR_k, 0). +Inf when the paths differ in length or hold a non-finite
+// value.
+func pathShift(prevP []r3.Vec, prevR []float64, p *forecast.Path) float64 {
+	n := len(prevP)
+	if n == 0 || n != p.Len() || len(prevR) != n {
+		return math.Inf(1)
+	}
+	ps, rs := p.P[:n], p.R[:n]
+	var d2, dr, bad float64
+	for k := range prevP {
+		v := r3.Sub(ps[k], prevP[k])
+		w := rs[k] - prevR[k]
+		// v − v and w − w are 0 for finite values and NaN otherwise.
+		bad += (v.X - v.X) + (v.Y - v.Y) + (v.Z - v.Z) + (w - w)
+		if l := v.X*v.X + v.Y*v.Y + v.Z*v.Z; l > d2 {
+			d2 = l
+		}
+		if w > dr {
+			dr = w
+		}
+	}
+	if bad != 0 {
+		return math.Inf(1)
+	}
+	return math.Sqrt(d2) + dr
+}
+
 // pathSpeed is the speed of the forecast's first segment.
 func pathSpeed(p *forecast.Path) (float64, bool) {
 	if p.Len() < 2 {
@@ -701,22 +782,44 @@ func pathSpeed(p *forecast.Path) (float64, bool) {
 // assess sweeps the track's current forecast through the zones and updates
 // every pair of the track at time t: requests, entries and exits, warning
 // episodes and near-miss approaches.
+//
+// Temporal coherence: the sweep of a zone is skipped when a lower bound of
+// the separation shows it at least SweepTol beyond the cutoff. The bound
+// is the previous path's minimum separation (from its sweep, a lower
+// bound), less how much closer the new path can come: pairing the points
+// of the two paths index by index (and the points between them by their
+// place on the segment), each new point lies within |ΔP| of its old one and
+// its radius is at most ΔR larger, so the separation, being 1-Lipschitz in
+// the position, drops by at most max_k |ΔP_k| + max_k ΔR_k. A skipped zone
+// reads as not touched with that bound as its minimum separation; the full
+// sweep would give the same decisions and reasons: no touch (the separation
+// stays above SweepTol), and a minimum separation of at least the cutoff,
+// which the reasons report as the cutoff (see Reason.MinSeparation). A
+// move of the robot frame of a zone voids its bound.
 func (e *Engine) assess(tr *track, t float64) {
 	view := zones.PathView{T: tr.path.T, P: tr.path.P, R: tr.path.R}
-	e.zs.sweep(view, e.cutoff, tr.sweep)
+	shift := pathShift(tr.prevP, tr.prevR, &tr.path)
+	for z := range tr.lb {
+		tr.lb[z] -= shift
+		tr.skip[z] = !e.fullSweep && tr.lb[z] >= e.cutoff+zones.SweepTol && tr.lb[z] > zones.SweepTol
+		if tr.skip[z] {
+			e.skipped++
+		}
+	}
+	e.zs.sweep(view, e.cutoff, tr.sweep, tr.skip)
+	for z := range tr.lb {
+		if tr.skip[z] {
+			tr.sweep[z] = zones.SweepResult{MinSep: tr.lb[z], Far: true}
+		} else {
+			tr.lb[z] = tr.sweep[z].MinSep
+		}
+	}
+	tr.prevP = append(tr.prevP[:0], tr.path.P...)
+	tr.prevR = append(tr.prevR[:0], tr.path.R...)
 	e.zs.distances(tr.lastP, tr.sep)
 	t0 := tr.path.T[0]
 
-	var sp float64
-	spIn, hasSp := e.separationData(tr)
-	if hasSp {
-		s, err := safety.ProtectiveSeparation(spIn)
-		if err == nil {
-			sp = s.Sp
-		} else {
-			hasSp = false
-		}
-	}
+	sp, hasSp := e.protectiveSeparation(tr)
 
 	tr.near = false
 	tr.nearest = -1
@@ -741,13 +844,25 @@ func (e *Engine) assess(tr *track, t float64) {
 				st, ri = r.step, j
 			}
 		}
-		// A forecast the sweep cannot judge (non-finite) reads as touching
-		// with MinSep −Inf; reasons stay finite.
-		ms := math.Max(-maxSep, math.Min(maxSep, sr.MinSep))
+		// The minimum separation is reported up to the cutoff (see
+		// Reason.MinSeparation). A forecast the sweep cannot judge
+		// (non-finite) reads as touching with MinSep −Inf; reasons stay
+		// finite.
+		ms := sr.MinSep
+		if ms > e.cutoff {
+			ms = e.cutoff
+		}
+		if !(ms >= -maxSep) {
+			ms = -maxSep
+		}
 		if !finite(tte) {
 			tte = 0
 		}
-		rs := Reason{Track: tr.id, Zone: zm.name, HasEntry: hasEntry, TimeToEntry: tte, Separation: sep, MinSeparation: ms}
+		// The pair's reason is updated in place (Track and Zone are set
+		// when the track is made).
+		rs := &p.reason
+		rs.HasEntry, rs.TimeToEntry, rs.Separation, rs.MinSeparation, rs.Required = hasEntry, tte, sep, ms, 0
+		rs.Rule, rs.Level, rs.Scale = "", LevelClear, 1
 		if ri >= 0 {
 			rs.Rule, rs.Level, rs.Scale = e.rules[ri].name, e.rules[ri].level, e.rules[ri].scale
 		}
@@ -761,7 +876,7 @@ func (e *Engine) assess(tr *track, t float64) {
 		if st == 0 {
 			rs.Level, rs.Scale = LevelClear, 1
 		}
-		p.step, p.reason = st, rs
+		p.step = st
 
 		// Warning episode (for lead times).
 		if st > 0 {

@@ -117,9 +117,12 @@ func pathAt(path zones.PathView, t float64) (r3.Vec, float64) {
 	return r3.Add(path.P[k], r3.Scale(u, r3.Sub(path.P[k+1], path.P[k]))), path.R[k] + u*(path.R[k+1]-path.R[k])
 }
 
-func (d *doubleSet) sweep(path zones.PathView, cutoff float64, out []zones.SweepResult) {
+func (d *doubleSet) sweep(path zones.PathView, cutoff float64, out []zones.SweepResult, skip []bool) {
 	const sub = 16
 	for i, z := range d.zs {
+		if i < len(skip) && skip[i] {
+			continue
+		}
 		g := func(t float64) float64 {
 			p, r := pathAt(path, t)
 			return z.sd(p) - r - z.margin

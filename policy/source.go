@@ -15,9 +15,10 @@ type zoneSource interface {
 	// info returns the zone's name, its robot frame ("" when fixed) and the
 	// names of its rules (empty: all policy rules).
 	info(i int) (name, frame string, rules []string)
-	// sweep writes, for every zone, the result of sweeping path (with its
-	// radii and the zone's margin) through it; out has count() elements.
-	sweep(path zones.PathView, cutoff float64, out []zones.SweepResult)
+	// sweep writes, for every zone i with skip[i] false, the result of
+	// sweeping path (with its radii and the zone's margin) through it; out
+	// and skip have count() elements; out[i] of a skipped zone is left.
+	sweep(path zones.PathView, cutoff float64, out []zones.SweepResult, skip []bool)
 	// distances writes the signed distance from p to every zone's shape
 	// (margin not subtracted, negative inside); out has count() elements.
 	distances(p r3.Vec, out []float64)

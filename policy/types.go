@@ -104,8 +104,10 @@ type Reason struct {
 	Separation float64
 	// MinSeparation is the minimum forecast separation over the path:
 	// distance to the shape minus uncertainty radius minus margin (negative
-	// when the forecast touches the zone). It is a lower bound when the path
-	// stays far from the zone.
+	// when the forecast touches the zone), reported up to the engine's
+	// sweep cutoff, the largest distance its rules need (the largest of
+	// near_track, 1.25·near_miss and the sep_below values; 0.5 m with the
+	// defaults): a value equal to the cutoff means at least that far.
 	MinSeparation float64
 	// Required is the protective separation distance Sp for
 	// RuleSeparation, 0 for other rules.

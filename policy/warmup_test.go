@@ -42,7 +42,7 @@ func TestNoForecastRequestsWhileWarmingUp(t *testing.T) {
 		at := r3.Vec{X: -1.7, Z: 0.9} // 2.5 m from the face x = 0.8
 		box := palletBox()
 		var res [1]zones.SweepResult
-		(&doubleSet{zs: []*dzone{box}}).sweep(rawForecast(m, at, 0), math.Inf(1), res[:])
+		(&doubleSet{zs: []*dzone{box}}).sweep(rawForecast(m, at, 0), math.Inf(1), res[:], nil)
 		if !res[0].Touch || res[0].TouchT > 0.4 {
 			t.Fatalf("%s: the first forecast %+v does not touch within 400 ms: the test shows nothing", kind, res[0])
 		}

@@ -33,8 +33,8 @@ func (z zoneSetSource) info(i int) (string, string, []string) {
 	return zn.Name, zn.Frame, zn.Rules
 }
 
-func (z zoneSetSource) sweep(path zones.PathView, cutoff float64, out []zones.SweepResult) {
-	z.s.Sweep(path, cutoff, out)
+func (z zoneSetSource) sweep(path zones.PathView, cutoff float64, out []zones.SweepResult, skip []bool) {
+	z.s.SweepSelected(path, cutoff, out, skip)
 }
 
 func (z zoneSetSource) distances(p r3.Vec, out []float64) { z.s.SignedDistances(p, out) }

@@ -302,6 +302,14 @@ func (s *ZoneSet) SetFramePose(frame string, pose Pose) int {
 // (len(out) == Len()). It allocates nothing once out and the set's scratch
 // buffer have grown to size.
 func (s *ZoneSet) Sweep(path PathView, cutoff float64, out []SweepResult) []SweepResult {
+	return s.SweepSelected(path, cutoff, out, nil)
+}
+
+// SweepSelected is Sweep for the zones i with skip[i] false (all zones when
+// skip is shorter than that): out[i] of a skipped zone is left as it was.
+// A caller that knows from earlier queries that a zone is far can so save
+// its query (the advisory engine does, see policy).
+func (s *ZoneSet) SweepSelected(path PathView, cutoff float64, out []SweepResult, skip []bool) []SweepResult {
 	if cap(out) < len(s.zones) {
 		out = make([]SweepResult, len(s.zones))
 	}
@@ -310,6 +318,9 @@ func (s *ZoneSet) Sweep(path PathView, cutoff float64, out []SweepResult) []Swee
 	s.scratch.grow(n)
 	pb := boxOfPath(path, s.scratch.cum)
 	for i := range s.zones {
+		if i < len(skip) && skip[i] {
+			continue
+		}
 		out[i] = s.zones[i].sweep(path, &pb, cutoff, &s.scratch, s.geometry(i))
 	}
 	return out

@@ -181,6 +181,21 @@ func TestZoneSetSweep(t *testing.T) {
 	if far < 3 || far > 8 || touch < 1 {
 		t.Errorf("demo cell: %d far, %d touching zones", far, touch)
 	}
+	// SweepSelected leaves the skipped zones' results as they were and
+	// gives the others exactly as Sweep does.
+	skip := make([]bool, zs.Len())
+	sel := make([]SweepResult, zs.Len())
+	marker := SweepResult{MinSep: -123, TouchT: 7}
+	for i := range sel {
+		skip[i] = i%3 == 1
+		sel[i] = marker
+	}
+	sel = zs.SweepSelected(path, 0.5, sel, skip)
+	for i := range sel {
+		if skip[i] && sel[i] != marker || !skip[i] && sel[i] != out[i] {
+			t.Errorf("%s (skip %v): selected result %+v, full %+v", zs.Zone(i).Name, skip[i], sel[i], out[i])
+		}
+	}
 	allocs := testing.AllocsPerRun(100, func() { out = zs.Sweep(path, 0.5, out) })
 	if allocs != 0 {
 		t.Errorf("ZoneSet.Sweep allocates %v times per call", allocs)
