@@ -27,9 +27,9 @@ const maxWindows = 8
 // sample, p relative to the latest position) of a window are the running
 // sums at its last sample, so a walk back through the samples serves every
 // window at once. Each window's sums are then scaled to u = τ/span, as in
-// history.fit, and solved there. The results equal history.fit's to rounding (tests check
-// 1e-9 m). It reports false when any fit fails (too few samples, repeated
-// times, a singular system). It does not allocate.
+// history.fit, and solved there. The results equal history.fit's to
+// rounding (tests check 1e-9 m). It reports false when any fit fails (too
+// few samples, repeated times, a singular system). It does not allocate.
 func (h *history) fitMany(specs []windowSpec, out []polyFit) bool {
 	nw := len(specs)
 	if nw > maxWindows || len(out) < nw {
