@@ -12,31 +12,14 @@ import (
 	"gonum.org/v1/gonum/spatial/r3"
 
 	"forereach/forecast"
+	"forereach/internal/shareddata"
 )
 
-// c3dSampleDir returns ../shared/data/c3d beside the repository root (the
-// directory holding go.mod), or skips the test when it is absent.
+// c3dSampleDir returns ../shared/data/c3d beside the repository, or skips the
+// test when it is absent.
 func c3dSampleDir(t *testing.T) string {
 	t.Helper()
-	dir, err := os.Getwd()
-	if err != nil {
-		t.Fatal(err)
-	}
-	for {
-		if _, err := os.Stat(filepath.Join(dir, "go.mod")); err == nil {
-			break
-		}
-		parent := filepath.Dir(dir)
-		if parent == dir {
-			t.Skip("C3D samples: repository root (go.mod) not found above the test directory")
-		}
-		dir = parent
-	}
-	d := filepath.Join(dir, "..", "shared", "data", "c3d")
-	if _, err := os.Stat(filepath.Join(d, "README.md")); err != nil {
-		t.Skipf("C3D conformance samples not available (want ../shared/data/c3d beside the repository): %v", err)
-	}
-	return d
+	return shareddata.Require(t, "c3d", "README.md")
 }
 
 // readC3D opens path through OpenSamples and returns every sample; row
