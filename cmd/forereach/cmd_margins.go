@@ -11,14 +11,11 @@ import (
 	"forereach/bus"
 	"forereach/forecast"
 	"forereach/policy"
+	"forereach/report"
 	"forereach/review"
 	"forereach/safety"
 	"forereach/zones"
 )
-
-// marginsFigure draws the --svg figure; it is set by cmd_margins_svg.go in
-// builds that include package report (build tag "report").
-var marginsFigure func(w io.Writer, res *review.MarginResult) error
 
 func init() {
 	register(&command{
@@ -144,10 +141,6 @@ func runMargins(args []string, stdout, stderr io.Writer) int {
 	if *rows < 1 {
 		return usage("--rows %d: want >= 1", *rows)
 	}
-	if *svgPath != "" && marginsFigure == nil {
-		fmt.Fprintln(stderr, "forereach margins: --svg needs a forereach built with figures (go build -tags report)")
-		return 1
-	}
 	opt, err := rec.options()
 	if err != nil {
 		return usage("%v", err)
@@ -202,7 +195,7 @@ func runMargins(args []string, stdout, stderr io.Writer) int {
 		return 1
 	}
 	if *svgPath != "" {
-		if err := writeOutput(*svgPath, func(w io.Writer) error { return marginsFigure(w, res) }); err != nil {
+		if err := writeOutput(*svgPath, func(w io.Writer) error { return report.MarginSweepFigure(w, res) }); err != nil {
 			fmt.Fprintf(stderr, "forereach margins: --svg: %v\n", err)
 			failed = true
 		}

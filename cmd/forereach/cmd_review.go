@@ -12,15 +12,11 @@ import (
 	"time"
 
 	"forereach/bus"
+	"forereach/report"
 	"forereach/review"
 	"forereach/safety"
 	"forereach/zones"
 )
-
-// reviewHTML writes the --html report; it is set by cmd_review_html.go in
-// builds that include package report (build tag "report" while that
-// package is guarded by it).
-var reviewHTML func(w io.Writer, res *review.Result, cfg *zones.Config) error
 
 func init() {
 	register(&command{
@@ -115,10 +111,6 @@ func runReview(args []string, stdout, stderr io.Writer) int {
 	if *windows < 0 || *windows > 200 {
 		return usage("--windows %d: want 0 to 200", *windows)
 	}
-	if *htmlPath != "" && reviewHTML == nil {
-		fmt.Fprintln(stderr, "forereach review: --html needs a forereach built with figures (go build -tags report)")
-		return 1
-	}
 	opt, err := rec.options()
 	if err != nil {
 		return usage("%v", err)
@@ -170,7 +162,7 @@ func runReview(args []string, stdout, stderr io.Writer) int {
 		}
 	}
 	if *htmlPath != "" {
-		if err := writeOutput(*htmlPath, func(w io.Writer) error { return reviewHTML(w, res, cfg) }); err != nil {
+		if err := writeOutput(*htmlPath, func(w io.Writer) error { return report.ReviewHTML(w, cfg, res) }); err != nil {
 			fmt.Fprintf(stderr, "forereach review: --html: %v\n", err)
 			failed = true
 		}
