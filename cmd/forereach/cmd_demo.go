@@ -16,8 +16,6 @@ import (
 	"syscall"
 	"time"
 
-	mqtt "github.com/eclipse/paho.mqtt.golang"
-
 	"forereach/bus"
 	"forereach/forecast"
 	"forereach/policy"
@@ -159,7 +157,7 @@ func runDemo(args []string, stdout, stderr io.Writer) int {
 
 	// The simulated tracker and robot controller publish through the
 	// broker like real ones would.
-	pub, err := dialDemo(l.broker.URL(), "forereach-demo-source")
+	pub, err := bus.DialPublisher(l.broker.URL(), "forereach-demo-source")
 	if err != nil {
 		stopSvc()
 		<-svcDone
@@ -175,7 +173,7 @@ func runDemo(args []string, stdout, stderr io.Writer) int {
 	go func() { defer wg.Done(); playRobot(ctx, pub, robotTopic, cfg, start) }()
 	go func() { defer wg.Done(); view.run(ctx, l.svc, start) }()
 	wg.Wait()
-	pub.Disconnect(250)
+	pub.Close()
 	// Let the last samples through the broker before the service stops.
 	time.Sleep(100 * time.Millisecond)
 	stopSvc()
@@ -187,16 +185,6 @@ func runDemo(args []string, stdout, stderr io.Writer) int {
 		return 1
 	}
 	return 0
-}
-
-func dialDemo(url, id string) (mqtt.Client, error) {
-	o := mqtt.NewClientOptions().AddBroker(url).SetClientID(id).SetCleanSession(true).SetOrderMatters(true).
-		SetConnectTimeout(5 * time.Second)
-	c := mqtt.NewClient(o)
-	if tok := c.Connect(); !tok.WaitTimeout(5*time.Second) || tok.Error() != nil {
-		return nil, fmt.Errorf("demo source: connect to %s: %v", url, tok.Error())
-	}
-	return c, nil
 }
 
 // demoSamples is what the demo plays: the simulator's scenario in a loop,
@@ -230,10 +218,9 @@ func demoSource(cfg *zones.Config, path string, haveSeed bool, seed uint64) (*de
 
 // play publishes samples paced by their (simulated) arrival times, with
 // source times on the Unix clock, until ctx ends.
-func (d *demoSamples) play(ctx context.Context, c mqtt.Client, topic string, start time.Time) error {
+func (d *demoSamples) play(ctx context.Context, c *bus.Publisher, topic string, start time.Time) error {
 	base := float64(start.UnixNano()) / 1e9
 	offset := 0.0 // seconds of the current run after start
-	var buf []byte
 	publish := func(track string, t, arrival float64, p r3.Vec) error {
 		due := start.Add(time.Duration((offset + arrival) * float64(time.Second)))
 		if w := time.Until(due); w > 0 {
@@ -246,10 +233,8 @@ func (d *demoSamples) play(ctx context.Context, c mqtt.Client, topic string, sta
 			return ctx.Err()
 		}
 		s := bus.SampleRecord{Sample: forecast.Sample{Track: track, T: base + offset + t, P: p}}
-		buf = bus.EncodeSample(buf[:0], &s)
-		tok := c.Publish(topic, 0, false, append([]byte(nil), buf...))
-		if tok.Error() != nil {
-			return fmt.Errorf("demo source: publish on %s: %w", topic, tok.Error())
+		if err := c.Sample(topic, &s); err != nil {
+			return fmt.Errorf("demo source: publish on %s: %w", topic, err)
 		}
 		return nil
 	}
@@ -318,7 +303,7 @@ func builtinApproach(publish func(track string, t, arrival float64, p r3.Vec) er
 
 // playRobot publishes the state of a simulated robot at 50 Hz: its tool
 // moves between the infeed pick position and the pallet, gripper down.
-func playRobot(ctx context.Context, c mqtt.Client, topic string, cfg *zones.Config, start time.Time) {
+func playRobot(ctx context.Context, c *bus.Publisher, topic string, cfg *zones.Config, start time.Time) {
 	if _, err := cfg.FramePose("tool"); err != nil {
 		return // a cell without a tool frame: no robot
 	}
@@ -336,9 +321,9 @@ func playRobot(ctx context.Context, c mqtt.Client, topic string, cfg *zones.Conf
 			s := (1 - math.Cos(2*math.Pi*t/period)) / 2
 			p := r3.Add(pick, r3.Scale(s, r3.Sub(place, pick)))
 			p.Z += 0.4 * math.Sin(math.Pi*s)
-			st := fmt.Sprintf(`{"v":1,"t":%s,"frames":[{"name":"tool","pos":[%.4f,%.4f,%.4f],"quat":[0,1,0,0]}]}`,
-				strconv.FormatFloat(float64(now.UnixNano())/1e9, 'f', -1, 64), p.X, p.Y, p.Z)
-			c.Publish(topic, 0, false, []byte(st))
+			st := bus.RobotState{T: float64(now.UnixNano()) / 1e9,
+				Frames: []bus.FramePos{{Name: "tool", Pos: [3]float64{p.X, p.Y, p.Z}, Quat: [4]float64{0, 1, 0, 0}}}}
+			c.Robot(topic, &st) // a lost connection shows in the samples' publishing
 		}
 	}
 }

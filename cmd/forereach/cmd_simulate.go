@@ -4,7 +4,6 @@ import (
 	"bufio"
 	"context"
 	"encoding/json"
-	"errors"
 	"fmt"
 	"io"
 	"math"
@@ -17,7 +16,6 @@ import (
 	"text/tabwriter"
 	"time"
 
-	mqtt "github.com/eclipse/paho.mqtt.golang"
 	"golang.org/x/term"
 
 	"forereach/bus"
@@ -546,7 +544,7 @@ func simulatePublish(sc *sim.Scenario, cell *zones.Config, seed uint64, f *simul
 		fmt.Fprintf(stderr, "forereach simulate: cannot publish on %q (a topic filter): give --topic\n", topic)
 		return 2
 	}
-	pub, err := dialPublisher(f.publish, "forereach-simulate-"+strconv.Itoa(os.Getpid()))
+	pub, err := bus.DialPublisher(f.publish, "forereach-simulate-"+strconv.Itoa(os.Getpid()))
 	if err != nil {
 		fmt.Fprintf(stderr, "forereach simulate: %v\n", err)
 		return 1
@@ -559,7 +557,6 @@ func simulatePublish(sc *sim.Scenario, cell *zones.Config, seed uint64, f *simul
 	start := time.Now()
 	base := float64(start.UnixNano()) / 1e9
 	progress := isTerminal(stderr)
-	var buf []byte
 	n := 0
 	lastShown := time.Time{}
 	for {
@@ -582,8 +579,7 @@ func simulatePublish(sc *sim.Scenario, cell *zones.Config, seed uint64, f *simul
 			return 1
 		}
 		s := bus.SampleRecord{Sample: forecast.Sample{Track: m.Track, T: base + m.T, P: m.P}}
-		buf = bus.EncodeSample(buf[:0], &s)
-		if err := pub.Publish(topic, append([]byte(nil), buf...)); err != nil {
+		if err := pub.Sample(topic, &s); err != nil {
 			fmt.Fprintf(stderr, "forereach simulate: publishing on %s: %v\n", topic, err)
 			return 1
 		}
@@ -603,54 +599,3 @@ func simulatePublish(sc *sim.Scenario, cell *zones.Config, seed uint64, f *simul
 	printSummary(stdout, sc, seed, []runSummary{summarise(r, topic, zs, near)}, zs, near)
 	return 0
 }
-
-// mqttPublisher publishes samples at QoS 0, in order, on one connection.
-type mqttPublisher struct {
-	url  string
-	c    mqtt.Client
-	last mqtt.Token
-}
-
-// dialPublisher connects to broker (tcp://host:port, ssl://host:port, or
-// host:port for tcp).
-func dialPublisher(broker, id string) (*mqttPublisher, error) {
-	url := broker
-	if !strings.Contains(url, "://") {
-		url = "tcp://" + url
-	}
-	opts := mqtt.NewClientOptions().AddBroker(url).SetClientID(id).SetCleanSession(true).
-		SetConnectTimeout(10 * time.Second).SetAutoReconnect(false).SetConnectRetry(false).SetOrderMatters(true)
-	c := mqtt.NewClient(opts)
-	tok := c.Connect()
-	if !tok.WaitTimeout(15 * time.Second) {
-		return nil, fmt.Errorf("%s: no answer from the broker within 15 s", url)
-	}
-	if err := tok.Error(); err != nil {
-		return nil, fmt.Errorf("%s: %w", url, err)
-	}
-	return &mqttPublisher{url: url, c: c}, nil
-}
-
-// Publish sends payload (which the client keeps: pass a fresh slice).
-func (p *mqttPublisher) Publish(topic string, payload []byte) error {
-	if !p.c.IsConnectionOpen() {
-		return fmt.Errorf("%s: %w", p.url, errNotConnected)
-	}
-	p.last = p.c.Publish(topic, 0, false, payload)
-	return nil
-}
-
-// Flush waits until the last message has been handed to the network.
-func (p *mqttPublisher) Flush(timeout time.Duration) error {
-	if p.last == nil {
-		return nil
-	}
-	if !p.last.WaitTimeout(timeout) {
-		return fmt.Errorf("%s: messages not sent within %v", p.url, timeout)
-	}
-	return p.last.Error()
-}
-
-func (p *mqttPublisher) Close() { p.c.Disconnect(250) }
-
-var errNotConnected = errors.New("connection to the broker lost")
