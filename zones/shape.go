@@ -107,12 +107,24 @@ func (b AABB) Contains(p r3.Vec) bool {
 }
 
 // Distance returns the Euclidean distance between the two boxes, zero when
-// they overlap or touch.
+// they overlap or touch (and when a coordinate is NaN, so that such a box
+// never reads as far).
 func (b AABB) Distance(c AABB) float64 {
-	dx := max(0, max(b.Min.X-c.Max.X, c.Min.X-b.Max.X))
-	dy := max(0, max(b.Min.Y-c.Max.Y, c.Min.Y-b.Max.Y))
-	dz := max(0, max(b.Min.Z-c.Max.Z, c.Min.Z-b.Max.Z))
-	return math.Sqrt(dx*dx + dy*dy + dz*dz)
+	return math.Sqrt(gap2(b.Min.X, b.Max.X, c.Min.X, c.Max.X) + gap2(b.Min.Y, b.Max.Y, c.Min.Y, c.Max.Y) +
+		gap2(b.Min.Z, b.Max.Z, c.Min.Z, c.Max.Z))
+}
+
+// gap2 is the squared gap between the intervals [a0, a1] and [b0, b1], 0
+// when they overlap (plain comparisons: the built-in max orders NaNs and
+// signed zeros, which costs on this path).
+func gap2(a0, a1, b0, b1 float64) float64 {
+	if d := a0 - b1; d > 0 {
+		return d * d
+	}
+	if d := b0 - a1; d > 0 {
+		return d * d
+	}
+	return 0
 }
 
 // sdCombine2 is the exact signed distance of the intersection of two

@@ -112,7 +112,8 @@ func boxSDGrad(q, h r3.Vec) (float64, r3.Vec) {
 	if dx > 0 || dy > 0 || dz > 0 {
 		ox, oy, oz := max(dx, 0), max(dy, 0), max(dz, 0)
 		out := math.Sqrt(ox*ox + oy*oy + oz*oz)
-		return out, r3.Vec{X: sgn(q.X) * ox / out, Y: sgn(q.Y) * oy / out, Z: sgn(q.Z) * oz / out}
+		inv := 1 / out
+		return out, r3.Vec{X: sgn(q.X) * ox * inv, Y: sgn(q.Y) * oy * inv, Z: sgn(q.Z) * oz * inv}
 	}
 	switch {
 	case dx >= dy && dx >= dz:

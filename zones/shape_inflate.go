@@ -60,6 +60,19 @@ func newInflated(base evaluator, m float64) *Inflated {
 	return f
 }
 
+// exactHull is the base's (see Prism.exactHull), inflated by the margin:
+// where the base equals its minorant, so do both inflated by the margin.
+func (f *Inflated) exactHull(b AABB) (evaluator, float64) {
+	hb, ok := f.base.(hullSubstitute)
+	if !ok || f.minor == nil {
+		return nil, 0
+	}
+	if h, sd := hb.exactHull(b); h != nil {
+		return f.minor, sd - f.margin
+	}
+	return nil, 0
+}
+
 // hull returns the convex minorant: the base's, inflated by the margin
 // (see hullBounder).
 func (f *Inflated) hull() evaluator {

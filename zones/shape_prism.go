@@ -29,6 +29,10 @@ type Prism struct {
 	// convex): it holds the prism, so its signed distance is nowhere above
 	// the prism's (see hullBounder).
 	hullP *Prism
+	// pockets bound the hull's parts outside the prism: per edge of the
+	// hull that is not an edge of the footprint, the box of the footprint
+	// corners it bridges, times [zmin, zmax].
+	pockets []AABB
 }
 
 // NewPrism returns the vertical prism with the given footprint (x, y in
@@ -80,6 +84,7 @@ func NewPrism(footprint []r2.Vec, zmin, zmax float64) (*Prism, error) {
 		if h := convexHull2(pts); len(h) >= 3 {
 			p.hullP = buildPrism(h, zmin, zmax, shoelace(h))
 			p.hullP.isConvex = true
+			p.pockets = hullPockets(pts, h, zmin, zmax)
 		}
 	}
 	return p, nil
@@ -111,6 +116,66 @@ func convexHull2(pts []r2.Vec) []r2.Vec {
 		}
 	}
 	return h
+}
+
+// hullPockets returns, for each edge of the hull h (counter-clockwise
+// corners of the counter-clockwise footprint pts) that skips footprint
+// corners, the box of the corners from its start to its end along the
+// footprint, times [zmin, zmax]: the pocket between the edge and the
+// footprint lies in it.
+func hullPockets(pts, h []r2.Vec, zmin, zmax float64) []AABB {
+	index := make(map[r2.Vec]int, len(pts))
+	for i, v := range pts {
+		index[v] = i
+	}
+	n := len(pts)
+	var out []AABB
+	for k := range h {
+		ia, ib := index[h[k]], index[h[(k+1)%len(h)]]
+		if (ia+1)%n == ib {
+			continue // a footprint edge
+		}
+		lo, hi := pts[ia], pts[ia]
+		for i := ia; i != ib; i = (i + 1) % n {
+			v := pts[(i+1)%n]
+			lo.X, lo.Y = min(lo.X, v.X), min(lo.Y, v.Y)
+			hi.X, hi.Y = max(hi.X, v.X), max(hi.Y, v.Y)
+		}
+		out = append(out, AABB{Min: r3.Vec{X: lo.X, Y: lo.Y, Z: zmin}, Max: r3.Vec{X: hi.X, Y: hi.Y, Z: zmax}})
+	}
+	return out
+}
+
+// exactHull returns the convex minorant and its signed distance at the
+// centre of b when the minorant's signed distance equals the prism's at
+// every point of the box b (prism frame); nil otherwise.
+//
+// Write H for the prism over the hull, P for the prism and N for the
+// closure of H \ P (the pockets × [zmin, zmax]). At a point x with
+// d(x, N) > |sd_H(x)|: outside H, the point of H nearest to x is not in N,
+// so it is a point of P's surface and sd_P(x) <= sd_H(x); inside P, the
+// surface of P lies in that of H and in N, so its depth is at least that
+// in H. With sd_P >= sd_H everywhere (P ⊂ H), sd_P(x) = sd_H(x). Over the
+// box, d(x, N) is at least the distance from b to the pockets' boxes and
+// |sd_H(x)| at most |sd_H(c)| plus the half diagonal (sd_H is
+// 1-Lipschitz).
+func (p *Prism) exactHull(b AABB) (evaluator, float64) {
+	if p.hullP == nil {
+		return nil, 0
+	}
+	dn := math.Inf(1)
+	for i := range p.pockets {
+		dn = min(dn, b.Distance(p.pockets[i]))
+	}
+	if dn == 0 {
+		return nil, 0
+	}
+	c := r3.Scale(0.5, r3.Add(b.Min, b.Max))
+	sd := p.hullP.SignedDistance(c)
+	if math.Abs(sd)+0.5*norm(r3.Sub(b.Max, b.Min)) < dn {
+		return p.hullP, sd
+	}
+	return nil, 0
 }
 
 // hull returns the convex minorant of a non-convex prism (see hullBounder).
@@ -293,7 +358,8 @@ func (p *Prism) sd2(x, y float64) (d float64, cx, cy float64, edge int) {
 // sd2 results.
 func (p *Prism) grad2(x, y, d, cx, cy float64, edge int) r3.Vec {
 	if d != 0 {
-		return r3.Vec{X: (x - cx) / d, Y: (y - cy) / d}
+		inv := 1 / d
+		return r3.Vec{X: (x - cx) * inv, Y: (y - cy) * inv}
 	}
 	// On the boundary: the edge's outward normal (right of a CCW edge).
 	s := math.Sqrt(p.inv[edge])

@@ -467,3 +467,52 @@ func TestPrismHull(t *testing.T) {
 		t.Errorf("south of the L: %v and %v, want 0.5 and 0.5", sd, hd)
 	}
 }
+
+// Where exactHull vouches for it, the prism's signed distance equals its
+// hull's: checked at random points of random boxes around the L and U
+// prisms (also inflated). By hand: the L's hull (see TestPrismHull) has one
+// edge that is not a footprint edge, (1,2)–(0,1), bridging the reflex
+// corner (1,1): its pocket box is [0,1] × [1,2] × [0,1]. The box
+// [0.2,1.8] × [−0.4,−0.2] × [0.3,0.6] south of the L is 1.2 m from it; the
+// hull's signed distance at its centre (1, −0.3, 0.45) is 0.3 (the face
+// y = 0) and its half diagonal 0.5·|(1.6, 0.2, 0.3)| = 0.82 m, 1.12 < 1.2:
+// the hull stands in. A box inside the pocket is refused.
+func TestPrismExactHull(t *testing.T) {
+	lpr := must(NewPrism(lShape, 0, 1))
+	if h, sd := lpr.exactHull(AABB{Min: r3.Vec{X: 0.2, Y: -0.4, Z: 0.3}, Max: r3.Vec{X: 1.8, Y: -0.2, Z: 0.6}}); h == nil || !near(sd, 0.3, 1e-12) {
+		t.Errorf("box south of the L: minorant %v, sd at the centre %v; want the hull and 0.3", h, sd)
+	}
+	if h, _ := lpr.exactHull(AABB{Min: r3.Vec{X: 0.4, Y: 1.4, Z: 0.3}, Max: r3.Vec{X: 0.6, Y: 1.6, Z: 0.6}}); h != nil {
+		t.Errorf("box in the pocket: minorant %v, want none", h)
+	}
+	rng := rand.New(rand.NewPCG(83, 84))
+	upr := must(NewPrism(uShape, 0.5, 1.2))
+	for _, s := range []Shape{lpr, upr, Inflate(upr, 0.15), Inflate(lpr, 0.3)} {
+		hs := s.(hullSubstitute)
+		yes, no := 0, 0
+		for i := 0; i < 4000; i++ {
+			c := randIn(rng, s.Bounds(), 1.0)
+			h := r3.Vec{X: 0.3 * rng.Float64(), Y: 0.3 * rng.Float64(), Z: 0.3 * rng.Float64()}
+			b := AABB{Min: r3.Sub(c, h), Max: r3.Add(c, h)}
+			ev, sdc := hs.exactHull(b)
+			if ev == nil {
+				no++
+				continue
+			}
+			yes++
+			if !ev.convex() || !near(sdc, ev.SignedDistance(c), 1e-12) {
+				t.Fatalf("%s: minorant %v at the centre %v of %v: %v, want %v", s.Kind(), ev, c, b, sdc, ev.SignedDistance(c))
+			}
+			for j := 0; j < 20; j++ {
+				q := randIn(rng, b, 0)
+				if a, m := s.SignedDistance(q), ev.SignedDistance(q); !near(a, m, 1e-12) {
+					t.Fatalf("%s: in %v at %v the signed distance is %.12g, the minorant's %.12g", s.Kind(), b, q, a, m)
+				}
+			}
+		}
+		t.Logf("%s: the hull stands in for the shape in %d of %d boxes", s.Kind(), yes, yes+no)
+		if yes < 1000 || no < 200 {
+			t.Errorf("%s: the hull stands in for the shape in %d of %d boxes", s.Kind(), yes, yes+no)
+		}
+	}
+}

@@ -35,8 +35,9 @@ type pointEval struct {
 	// when it has one and hok.
 	hg  float64
 	hgr r3.Vec
-	ok  bool // evaluated
-	hok bool // minorant evaluated
+	// gen, hgen: the query (sweepScratch.gen) that evaluated the point and
+	// the minorant there; older values are stale.
+	gen, hgen uint64
 }
 
 // boundRefiner is implemented by non-convex shapes that can bound the
@@ -59,6 +60,15 @@ type hullBounder interface {
 	hull() evaluator
 }
 
+// hullSubstitute is implemented by non-convex shapes whose convex minorant
+// equals them in parts of space: exactHull returns the minorant and its
+// signed distance at the centre of the box b (shape frame) when the two
+// signed distances are equal at every point of b, else nil. A path within
+// b is then swept through the minorant, a convex shape.
+type hullSubstitute interface {
+	exactHull(b AABB) (evaluator, float64)
+}
+
 // interval is a piece [a, b] of one path segment in the segment's parameter
 // s ∈ [0, 1], with f and df/ds at both ends, and ha, hb, hda, hdb the same
 // for the convex minorant's separation (non-convex shapes with one).
@@ -74,6 +84,23 @@ type interval struct {
 // is far below any useful time resolution).
 const maxSplitDepth = 40
 
+// minf and maxf are min and max for numbers that are not NaN, or where a
+// NaN need not win: plain comparisons, several times cheaper than the
+// built-ins, which order NaNs and signed zeros (it shows on this path).
+func minf(a, b float64) float64 {
+	if b < a {
+		return b
+	}
+	return a
+}
+
+func maxf(a, b float64) float64 {
+	if b > a {
+		return b
+	}
+	return a
+}
+
 // tangentBound returns the lower bound over [a, b] of a function convex
 // along the segment, given its values fa, fb and slopes da, db at the ends:
 // the larger of the two tangents, minimised.
@@ -85,7 +112,7 @@ func tangentBound(a, b, fa, fb, da, db float64) float64 {
 		return fb
 	default: // da < 0 < db: the tangents cross inside the interval
 		s := (fb - fa + da*a - db*b) / (da - db)
-		s = max(a, min(b, s))
+		s = maxf(a, minf(b, s))
 		return fa + da*(s-a)
 	}
 }
@@ -96,8 +123,8 @@ func tangentBound(a, b, fa, fb, da, db float64) float64 {
 // below as well; for a shape with a convex minorant (hull), the minorant's
 // tangents do.
 func (it *interval) lowerBound(ls float64, cvx, hull bool) float64 {
-	lo := min(it.ga, it.gb)
-	lb := min(0.5*(it.ga+it.gb-ls*(it.b-it.a)), lo)
+	lo := minf(it.ga, it.gb)
+	lb := minf(0.5*(it.ga+it.gb-ls*(it.b-it.a)), lo)
 	var tb float64
 	switch {
 	case cvx:
@@ -107,28 +134,44 @@ func (it *interval) lowerBound(ls float64, cvx, hull bool) float64 {
 	default:
 		return lb
 	}
-	return min(max(lb, tb), lo)
+	return minf(maxf(lb, tb), lo)
 }
 
 // sweepScratch is the reusable memory of one path query: the point cache,
 // the path's cumulative Lipschitz lengths and the search stack.
 type sweepScratch struct {
-	buf   []pointEval
-	cum   []float64 // cum[k] = Σ_{i<k} |P[i+1] − P[i]| + |R[i+1] − R[i]|
-	stack [maxSplitDepth + 2]interval
+	buf []pointEval
+	// Per path point k, with L_k = Σ_{i<k} |P[i+1] − P[i]| the path length
+	// up to it: cum[k] = L_k + Σ_{i<k} |R[i+1] − R[i]|, up[k] = L_k + R[k]
+	// and down[k] = R[k] − L_k (see sweepLocal).
+	cum, up, down []float64
+	// upInc: up never decreases along the path; downInc, downDec: down
+	// never decreases, never increases (the largest value over a run is
+	// then at one of its ends).
+	upInc, downInc, downDec bool
+	// downMax[k] is the largest down over points k..n−1.
+	downMax  []float64
+	measured bool // the fields above describe the current path
+	gen      uint64
+	stack    [maxSplitDepth + 2]interval
+	spans    [64]span
 }
 
 // grow makes room for n path points.
 func (sc *sweepScratch) grow(n int) {
 	if cap(sc.buf) < n {
 		sc.buf = make([]pointEval, n)
-		sc.cum = make([]float64, n)
+		sc.cum, sc.up, sc.down, sc.downMax = make([]float64, n), make([]float64, n), make([]float64, n), make([]float64, n)
 	}
-	sc.buf, sc.cum = sc.buf[:n], sc.cum[:n]
+	sc.buf, sc.cum, sc.up, sc.down, sc.downMax = sc.buf[:n], sc.cum[:n], sc.up[:n], sc.down[:n], sc.downMax[:n]
 }
 
-// span is a run of path points [i, j] (indices), j > i.
-type span struct{ i, j int32 }
+// span is a run of path points [i, j] (indices), j > i; clear when f > 0
+// has been proved on it.
+type span struct {
+	i, j  int32
+	clear bool
+}
 
 // shapeFns are the shape's evaluator and its optional helpers. They travel
 // as arguments rather than in sweepRun, so that the escape analysis (which
@@ -160,7 +203,7 @@ type sweepRun struct {
 // eval evaluates path point k once (later calls return the cached value).
 func (r *sweepRun) eval(fn shapeFns, k int) *pointEval {
 	e := &r.sc.buf[k]
-	if e.ok {
+	if e.gen == r.sc.gen {
 		return e
 	}
 	p := r.path.P[k]
@@ -169,7 +212,7 @@ func (r *sweepRun) eval(fn shapeFns, k int) *pointEval {
 	}
 	sd, gr := fn.ev.sdGrad(p)
 	g := sd - r.path.R[k] - r.margin
-	e.p, e.g, e.gr, e.ok, e.hok = p, g, gr, true, false
+	e.p, e.g, e.gr, e.gen = p, g, gr, r.sc.gen
 	if g < r.best {
 		r.best, r.bestT = g, r.path.T[k]
 	}
@@ -181,11 +224,11 @@ func (r *sweepRun) eval(fn shapeFns, k int) *pointEval {
 // the run search sees never pay for it.
 func (r *sweepRun) evalHull(fn shapeFns, k int) {
 	e := &r.sc.buf[k]
-	if e.hok {
+	if e.hgen == r.sc.gen {
 		return
 	}
 	hs, hgr := fn.hull.sdGrad(e.p)
-	e.hg, e.hgr, e.hok = hs-r.path.R[k]-r.margin, hgr, true
+	e.hg, e.hgr, e.hgen = hs-r.path.R[k]-r.margin, hgr, r.sc.gen
 }
 
 // sweepLocal runs the exact path query of one shape against the path, whose
@@ -195,12 +238,22 @@ func (r *sweepRun) evalHull(fn shapeFns, k int) {
 //
 // Method: branch and bound, depth-first and left first, in two tiers. The
 // upper tier works on runs of whole segments between two evaluated path
-// points i < j: f can be no lower than (f_i + f_j − L_ij)/2 on the run,
-// with L_ij the run's length |ΔP| + |ΔR| summed over its segments (the
-// signed distance being 1-Lipschitz). A run is dropped when this bound
-// shows it can neither improve the minimum by more than SweepTol nor (until
-// a touch is found) reach f <= 0; otherwise its middle point is evaluated
-// and both halves are searched. A run of one segment goes to the lower tier,
+// points i < j. The signed distance being 1-Lipschitz, and no two points of
+// the path farther apart than the path length L between them, f at a point
+// x of the run is at least f_i − (L_ix + R_x − R_i) and f_j − (R_x − R_j −
+// L_xj): so on the run f is no lower than (f_i + f_j − C_ij)/2, with C_ij
+// the run's length |ΔP| + |ΔR| summed over its segments, nor than
+// f_i − max_x (up_x − up_i) or f_j − max_x (down_x − down_j) with
+// up = L + R and down = R − L (both affine along a segment, so the largest
+// values are at path points). The last bound makes a run ending where the
+// radius is largest cheap to drop when the radius grows faster than the
+// hand moves. A run is dropped when these bounds show it can neither
+// improve the minimum by more than SweepTol nor (until a touch is found)
+// reach f <= 0. Otherwise it is split: before the first touch at the last
+// point up to which the first of those bounds proves f > 0 (f cannot reach
+// 0 before up_x − up_i = f_i), otherwise at its middle point; the point is
+// evaluated and both parts are searched. A run of one segment goes to the
+// lower tier,
 // which halves the segment itself with the same test and sharper bounds:
 // for convex shapes the tangents at both ends (f is convex along a segment
 // because the signed distance of a convex solid is a convex function and
@@ -218,9 +271,7 @@ func sweepLocal(ev evaluator, path PathView, n int, posed bool, m *mat3, pos r3.
 	margin float64, sc *sweepScratch) SweepResult {
 	const tol = SweepTol
 	buf := sc.buf[:n]
-	for k := range buf {
-		buf[k].ok = false
-	}
+	sc.gen++ // every cached point evaluation is stale now
 	fn := shapeFns{ev: ev}
 	r := sweepRun{cvx: ev.convex(), path: path, posed: posed, m: m, pos: pos, margin: margin, sc: sc,
 		best: math.Inf(1), lbAll: math.Inf(1)}
@@ -234,34 +285,69 @@ func sweepLocal(ev evaluator, path PathView, n int, posed bool, m *mat3, pos r3.
 	r.eval(fn, 0)
 	if n > 1 {
 		r.eval(fn, n-1)
-		cum := sc.cum[:n]
-		// Each split replaces a run by its two halves, so the stack never
-		// holds more than about log2(n) + 2 runs.
-		var spans [64]span
-		spans[0] = span{0, int32(n - 1)}
+		cum, up, down := sc.cum[:n], sc.up[:n], sc.down[:n]
+		// Each split replaces a run by two parts, the left one of which is
+		// searched first: the stack holds at most one run per halving
+		// plus the runs proved clear, fewer than 64 for any path.
+		spans := &sc.spans
+		spans[0] = span{0, int32(n - 1), false}
 		sp := 1
 		for sp > 0 {
 			sp--
-			i, j := int(spans[sp].i), int(spans[sp].j)
+			i, j, clear := int(spans[sp].i), int(spans[sp].j), spans[sp].clear
 			gi := buf[i].g
 			if !r.touched && gi <= tol {
 				// Everything before point i has been proved clear.
 				r.touched, r.touchT = true, path.T[i]
 			}
 			if j == i+1 {
-				r.segment(fn, i)
+				r.segment(fn, i, clear)
 				continue
 			}
 			gj := buf[j].g
-			lb := min(0.5*(gi+gj-(cum[j]-cum[i])), gi, gj)
-			if (r.touched || lb > 0) && lb >= r.best-tol {
-				r.lbAll = min(r.lbAll, lb)
+			need := r.best - tol
+			lb := minf(0.5*(gi+gj-(cum[j]-cum[i])), minf(gi, gj))
+			if clear {
+				lb = maxf(lb, 0)
+			}
+			if !(lb >= need) {
+				// The one-sided bounds, tried only when needed.
+				lo := minf(gi, gj)
+				lb = maxf(lb, minf(maxf(gi-(sc.maxUp(i, j)-up[i]), gj-(sc.maxDown(i, j)-down[j])), lo))
+			}
+			if (r.touched || lb > 0 || clear) && lb >= need {
+				r.lbAll = minf(r.lbAll, lb)
 				continue
 			}
-			mid := i + (j-i)/2
-			r.eval(fn, mid)
-			spans[sp] = span{int32(mid), int32(j)}
-			spans[sp+1] = span{int32(i), int32(mid)}
+			if sp+2 > len(spans) {
+				// Not reached for any path (see above); keep the bound and
+				// count a possible touch as one.
+				r.lbAll = minf(r.lbAll, lb)
+				if !r.touched && !(lb > 0) && !clear {
+					r.touched, r.touchT = true, path.T[i]
+				}
+				continue
+			}
+			s, left := i+(j-i)/2, clear
+			if !r.touched && !clear && gi > tol {
+				// f > 0 up to the last point x with up_x − up_i < f_i.
+				x := i
+				for x < j && up[x+1]-up[i] < gi {
+					x++
+				}
+				switch {
+				case x == j:
+					// f > 0 on the whole run: search it for the minimum.
+					left = true
+				case x > i:
+					s, left = x, true
+				default:
+					s = i + 1
+				}
+			}
+			r.eval(fn, s)
+			spans[sp] = span{int32(s), int32(j), clear}
+			spans[sp+1] = span{int32(i), int32(s), left}
 			sp += 2
 		}
 	}
@@ -276,8 +362,9 @@ func sweepLocal(ev evaluator, path PathView, n int, posed bool, m *mat3, pos r3.
 	}
 }
 
-// segment searches segment k (points k and k+1 evaluated) by halving it.
-func (r *sweepRun) segment(fn shapeFns, k int) {
+// segment searches segment k (points k and k+1 evaluated) by halving it;
+// clear when f > 0 has been proved on it.
+func (r *sweepRun) segment(fn shapeFns, k int, clear bool) {
 	const tol = SweepTol
 	path := r.path
 	e0, e1 := &r.sc.buf[k], &r.sc.buf[k+1]
@@ -291,7 +378,7 @@ func (r *sweepRun) segment(fn shapeFns, k int) {
 	t0, dt := path.T[k], path.T[k+1]-path.T[k]
 	stack := &r.sc.stack
 	stack[0] = interval{a: 0, b: 1, ga: e0.g, gb: e1.g,
-		da: r3.Dot(e0.gr, dp) - dr, db: r3.Dot(e1.gr, dp) - dr}
+		da: r3.Dot(e0.gr, dp) - dr, db: r3.Dot(e1.gr, dp) - dr, clear: clear}
 	if r.hasH {
 		stack[0].ha, stack[0].hb = e0.hg, e1.hg
 		stack[0].hda, stack[0].hdb = r3.Dot(e0.hgr, dp)-dr, r3.Dot(e1.hgr, dp)-dr
@@ -307,19 +394,19 @@ func (r *sweepRun) segment(fn shapeFns, k int) {
 		lb := it.lowerBound(ls, r.cvx, r.hasH)
 		if it.clear {
 			// f > 0 on [a, b), f(b) = gb.
-			lb = max(lb, min(0, it.gb))
+			lb = maxf(lb, minf(0, it.gb))
 		}
 		if (r.touched || lb > 0 || it.clear) && lb >= r.best-tol {
-			r.lbAll = min(r.lbAll, lb)
+			r.lbAll = minf(r.lbAll, lb)
 			continue
 		}
 		// The refined bound cannot exceed the smaller end value, so it is
 		// of no use for a piece that ends at f <= 0 before the first touch
 		// (the touch is there to be found).
-		if fn.refiner != nil && (r.touched || it.clear || min(it.ga, it.gb) > 0) {
-			lb = max(lb, fn.refiner.refineBound(e0.p, dp, r0, dr, r.margin, it.a, it.b, it.ga, it.gb))
+		if fn.refiner != nil && (r.touched || it.clear || minf(it.ga, it.gb) > 0) {
+			lb = maxf(lb, fn.refiner.refineBound(e0.p, dp, r0, dr, r.margin, it.a, it.b, it.ga, it.gb))
 			if (r.touched || lb > 0) && lb >= r.best-tol {
-				r.lbAll = min(r.lbAll, lb)
+				r.lbAll = minf(r.lbAll, lb)
 				continue
 			}
 		}
@@ -327,7 +414,7 @@ func (r *sweepRun) segment(fn shapeFns, k int) {
 		if sp+2 > len(stack) || w < 1.0/(1<<maxSplitDepth) || math.IsNaN(lb) {
 			// Cannot refine further (only for absurd inputs): keep the
 			// bound, and count a possible touch as a touch.
-			r.lbAll = min(r.lbAll, lb)
+			r.lbAll = min(r.lbAll, lb) // keeps a NaN
 			if !r.touched && !(lb > 0) {
 				r.touched, r.touchT = true, t0+it.a*dt
 			}
@@ -343,10 +430,10 @@ func (r *sweepRun) segment(fn shapeFns, k int) {
 			// needs one per bit of the touch time.
 			c := it.a + it.ga/ls
 			if r.cvx && it.da < 0 {
-				c = max(c, it.a-it.ga/it.da)
+				c = maxf(c, it.a-it.ga/it.da)
 			}
 			if r.hasH && it.ha > 0 && it.hda < 0 {
-				c = max(c, it.a-it.ha/it.hda)
+				c = maxf(c, it.a-it.ha/it.hda)
 			}
 			if c > it.a && c < it.b {
 				s, newton = c, true
@@ -387,10 +474,8 @@ type pathBox struct {
 	ok    bool // every coordinate, radius and time finite
 }
 
-// boxOfPath measures the path and writes
-// the cumulative Lipschitz lengths of its segments into it when it has room
-// for them.
-func boxOfPath(path PathView, cum []float64) pathBox {
+// boxOfPath measures the path.
+func boxOfPath(path PathView) pathBox {
 	n := min(len(path.T), len(path.P), len(path.R))
 	if n == 0 {
 		return pathBox{ok: true}
@@ -434,16 +519,71 @@ func boxOfPath(path PathView, cum []float64) pathBox {
 	}
 	pb.c = r3.Scale(0.5, r3.Add(lo, hi))
 	pb.reach = 0.5*norm(r3.Sub(hi, lo)) + maxR
-	if len(cum) >= n {
-		cum = cum[:n]
-		cum[0] = 0
-		for k := 1; k < n; k++ {
-			dr := rs[k] - rs[k-1]
-			if dr < 0 {
-				dr = -dr
-			}
-			cum[k] = cum[k-1] + norm(r3.Sub(ps[k], ps[k-1])) + dr
-		}
-	}
 	return pb
+}
+
+// lengths writes the path's cumulative lengths into sc (see sweepScratch).
+func (sc *sweepScratch) lengths(path PathView, n int) {
+	ps, rs := path.P[:n], path.R[:n]
+	cum, up, down := sc.cum[:n], sc.up[:n], sc.down[:n]
+	cum[0], up[0], down[0] = 0, rs[0], rs[0]
+	sc.upInc, sc.downInc, sc.downDec = true, true, true
+	// Plain comparisons and running sums in registers: this loop runs for
+	// every forecast that reaches an exact query.
+	l, c := 0.0, 0.0
+	for k := 1; k < n; k++ {
+		dr := rs[k] - rs[k-1]
+		d := norm(r3.Sub(ps[k], ps[k-1]))
+		// up rises by d + dr, down by dr − d.
+		if dr < -d {
+			sc.upInc = false
+		}
+		if dr < d {
+			sc.downInc = false
+		}
+		if dr > d {
+			sc.downDec = false
+		}
+		l += d
+		c += d + math.Abs(dr)
+		cum[k] = c
+		up[k], down[k] = l+rs[k], rs[k]-l
+	}
+	dm := sc.downMax[:n]
+	m := down[n-1]
+	for k := n - 1; k >= 0; k-- {
+		if down[k] > m {
+			m = down[k]
+		}
+		dm[k] = m
+	}
+}
+
+// maxUp returns the largest up over points i..j.
+func (sc *sweepScratch) maxUp(i, j int) float64 {
+	if sc.upInc {
+		return sc.up[j]
+	}
+	m := sc.up[i]
+	for _, v := range sc.up[i+1 : j+1] {
+		m = maxf(m, v)
+	}
+	return m
+}
+
+// maxDown returns the largest down over points i..j.
+func (sc *sweepScratch) maxDown(i, j int) float64 {
+	switch {
+	case sc.downInc:
+		return sc.down[j]
+	case sc.downDec:
+		return sc.down[i]
+	case j == len(sc.down)-1:
+		return sc.downMax[i]
+	}
+	m := sc.down[i]
+	for _, v := range sc.down[i+1 : j+1] {
+		m = maxf(m, v)
+	}
+	return m
 }

@@ -385,16 +385,22 @@ func TestRefineBoundValid(t *testing.T) {
 // forecasts: 20 ms steps, a hand moving at up to 2 m/s with a gentle turn,
 // and an uncertainty radius growing from a few millimetres to up to 1 m at
 // the end (the fitted forecaster's radius grows that large during fast
-// movements).
-func forecastPath(rng *rand.Rand, b AABB, n int) PathView {
+// movements). With wavy, the radius also swells and shrinks by up to
+// 0.3 m along the path (not a forecast's radius, but one the query takes).
+func forecastPath(rng *rand.Rand, b AABB, n int, wavy bool) PathView {
 	path := PathView{T: make([]float64, n), P: make([]r3.Vec, n), R: make([]float64, n)}
 	p := randIn(rng, b, 0.6)
 	v := r3.Scale(2*rng.Float64(), randUnit(rng))
 	turn := r3.Scale(3*rng.Float64(), randUnit(rng))
 	r0, rEnd := 0.01*rng.Float64(), rng.Float64()
+	amp, freq := 0.0, 2+10*rng.Float64()
+	if wavy {
+		amp = 0.3 * rng.Float64()
+	}
 	for k := 0; k < n; k++ {
 		s := float64(k) / float64(n-1)
-		path.T[k], path.P[k], path.R[k] = 50+0.02*float64(k), p, r0+(rEnd-r0)*s*s
+		r := r0 + (rEnd-r0)*s*s + amp*(1+math.Sin(freq*s))
+		path.T[k], path.P[k], path.R[k] = 50+0.02*float64(k), p, r
 		v = r3.Add(v, r3.Scale(0.02, turn))
 		p = r3.Add(p, r3.Scale(0.02, v))
 	}
@@ -403,7 +409,8 @@ func forecastPath(rng *rand.Rand, b AABB, n int) PathView {
 
 // TestSweepForecastPaths checks the guarantees on 26-point forecast-like
 // paths, where the search over runs of segments skips most points, for
-// every shape kind, fixed and posed, against dense sampling.
+// every shape kind, fixed and posed, against dense sampling; one path in
+// three has a radius that also shrinks.
 func TestSweepForecastPaths(t *testing.T) {
 	rng := rand.New(rand.NewPCG(71, 72))
 	cases := 12
@@ -422,7 +429,7 @@ func TestSweepForecastPaths(t *testing.T) {
 						Rot: RotationRPY(360*rng.Float64(), 180*rng.Float64()-90, 360*rng.Float64())}
 					b = z.Bounds()
 				}
-				path := forecastPath(rng, b, 26)
+				path := forecastPath(rng, b, 26, i%3 == 2)
 				res := z.Sweep(path, math.Inf(1))
 				checkDense(t, fmt.Sprintf("%s posed=%v case %d", ns.name, posed, i), &z, path, res, 400)
 				if res.Touch {

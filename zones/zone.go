@@ -100,6 +100,16 @@ func (g *zoneGeom) set(z *Zone) {
 	}
 }
 
+// localBounds returns a box in shape coordinates enclosing the cell box b.
+func (g *zoneGeom) localBounds(b AABB) AABB {
+	mt := mat3{
+		{g.m[0][0], g.m[1][0], g.m[2][0]},
+		{g.m[0][1], g.m[1][1], g.m[2][1]},
+		{g.m[0][2], g.m[1][2], g.m[2][2]},
+	}
+	return placeBounds(b, &mt, g.m.applyT(r3.Scale(-1, g.pose.Pos)))
+}
+
 // local maps a cell point into shape coordinates.
 func (g *zoneGeom) local(p r3.Vec) r3.Vec {
 	if !g.posed {
@@ -131,14 +141,14 @@ func (g *zoneGeom) local(p r3.Vec) r3.Vec {
 func (z *Zone) Sweep(path PathView, cutoff float64) SweepResult {
 	var sc sweepScratch
 	var buf [sweepStack]pointEval
-	var cum [sweepStack]float64
+	var cum, up, down, downMax [sweepStack]float64
 	n := min(len(path.T), len(path.P), len(path.R))
 	if n <= sweepStack {
-		sc.buf, sc.cum = buf[:n], cum[:n]
+		sc.buf, sc.cum, sc.up, sc.down, sc.downMax = buf[:n], cum[:n], up[:n], down[:n], downMax[:n]
 	} else {
 		sc.grow(n)
 	}
-	pb := boxOfPath(path, sc.cum)
+	pb := boxOfPath(path)
 	var g zoneGeom
 	g.set(z)
 	return z.sweep(path, &pb, cutoff, &sc, &g)
@@ -161,14 +171,34 @@ func (z *Zone) sweep(path PathView, pb *pathBox, cutoff float64, sc *sweepScratc
 	if lb >= cutoff && lb > 0 {
 		return SweepResult{MinSep: lb, Far: true}
 	}
+	// A non-convex shape that equals its convex minorant around the path
+	// is swept as the minorant (see hullSubstitute).
+	ev := g.ev
+	var sdc float64
+	if hs, ok := ev.(hullSubstitute); ok {
+		b := pb.box
+		if g.posed {
+			b = g.localBounds(b)
+		}
+		if h, sd := hs.exactHull(b); h != nil {
+			ev, sdc = h, sd
+		}
+	}
+	if ev == g.ev {
+		sdc = ev.SignedDistance(g.local(pb.c))
+	}
 	// The signed distance is 1-Lipschitz: at a path point P with radius
 	// R, sd(P) − R >= sd(c) − |P − c| − R >= sd(c) − reach (and along a
 	// segment |P − c| + R is convex, so largest at a point).
-	lb = max(lb, g.ev.SignedDistance(g.local(pb.c))-pb.reach-z.Margin)
+	lb = max(lb, sdc-pb.reach-z.Margin)
 	if lb >= cutoff && lb > 0 {
 		return SweepResult{MinSep: lb, Far: true}
 	}
-	res := sweepLocal(g.ev, path, pb.n, g.posed, &g.m, g.pose.Pos, z.Margin, sc)
+	if !sc.measured {
+		sc.lengths(path, pb.n)
+		sc.measured = true
+	}
+	res := sweepLocal(ev, path, pb.n, g.posed, &g.m, g.pose.Pos, z.Margin, sc)
 	// Both are lower bounds of the true minimum; keep the tighter.
 	res.MinSep = max(res.MinSep, lb)
 	return res
@@ -316,7 +346,8 @@ func (s *ZoneSet) SweepSelected(path PathView, cutoff float64, out []SweepResult
 	out = out[:len(s.zones)]
 	n := min(len(path.T), len(path.P), len(path.R))
 	s.scratch.grow(n)
-	pb := boxOfPath(path, s.scratch.cum)
+	pb := boxOfPath(path)
+	s.scratch.measured = false
 	for i := range s.zones {
 		if i < len(skip) && skip[i] {
 			continue
