@@ -29,7 +29,10 @@ func TestMeasureLatency(t *testing.T) {
 		t.Fatal(err)
 	}
 	t.Logf("%+v", res)
-	if res.Sent < 400 || res.Sent > 600 {
+	// The pacing never runs ahead of the clock (at most 500 in 1 s, plus
+	// one tick); it may fall behind on a loaded machine (CI runs the race
+	// detector on 2 cores), so the lower bound only says it ran.
+	if res.Sent < 50 || res.Sent > 600 {
 		t.Errorf("%d samples sent in 1 s at 500/s", res.Sent)
 	}
 	if res.Echo.N != res.Sent || res.EchoLost != 0 {
