@@ -68,6 +68,46 @@ func (w *twin) do(f func(e *Engine)) {
 	if sa, sb := w.full.Stats(), w.fast.Stats(); sa != sb {
 		w.t.Fatalf("call %d: stats differ:\nfull: %+v\nfast: %+v", w.calls, sa, sb)
 	}
+	w.checkViews(w.fast, w.sb)
+}
+
+// checkViews checks Requests and Separations against State: the requests
+// are the pairs of live tracks whose level is not clear, with their place
+// in State's order; the separations those of State.
+func (w *twin) checkViews(e *Engine, st []TrackZone) {
+	w.t.Helper()
+	nz := len(e.zones)
+	reqs := e.Requests(nil)
+	k := 0
+	for i, tz := range st {
+		if tz.Level == LevelClear || tz.Lost {
+			continue
+		}
+		if k >= len(reqs) {
+			w.t.Fatalf("call %d: %d requests, State has more: %+v", w.calls, len(reqs), tz)
+		}
+		if q := reqs[k]; q.Reason != tz.Reason || q.T != tz.T || q.TrackIndex != i/nz || q.ZoneIndex != i%nz {
+			w.t.Fatalf("call %d: request %+v, State %d: %+v", w.calls, q, i, tz)
+		}
+		k++
+	}
+	if k != len(reqs) {
+		w.t.Fatalf("call %d: %d requests, State has %d", w.calls, len(reqs), k)
+	}
+	for i := 0; i < len(st); i += nz {
+		seps, ok := e.Separations(st[i].Track, nil)
+		if !ok || len(seps) != nz {
+			w.t.Fatalf("call %d: separations of %s: %v %v", w.calls, st[i].Track, seps, ok)
+		}
+		for z := range seps {
+			if seps[z] != st[i+z].Separation {
+				w.t.Fatalf("call %d: separation of %s from %s: %v, State %v", w.calls, st[i].Track, st[i+z].Zone, seps[z], st[i+z].Separation)
+			}
+		}
+	}
+	if _, ok := e.Separations("nobody", nil); ok {
+		w.t.Fatalf("separations of an unknown track")
+	}
 }
 
 func sameAdvisory(a, b Advisory) bool {

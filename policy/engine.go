@@ -450,6 +450,20 @@ func (e *Engine) SetLatency(track string, seconds float64) error {
 	return nil
 }
 
+// track returns the track with the given id, or nil. A few tracks are
+// looked up by comparing ids, cheaper than hashing.
+func (e *Engine) track(id string) *track {
+	if len(e.tracks) <= 8 {
+		for _, tr := range e.tracks {
+			if tr.id == id {
+				return tr
+			}
+		}
+		return nil
+	}
+	return e.byID[id]
+}
+
 func (e *Engine) newTrack(id string) (*track, bool) {
 	if len(e.tracks) >= e.maxTracks {
 		return nil, false
@@ -506,7 +520,7 @@ func (e *Engine) Sample(s forecast.Sample) {
 		e.reject(t, s.Track, RejectNonFinite, 0)
 		return
 	}
-	tr := e.byID[s.Track]
+	tr := e.track(s.Track)
 	if tr == nil {
 		var ok bool
 		if tr, ok = e.newTrack(s.Track); !ok {
@@ -525,9 +539,10 @@ func (e *Engine) Sample(s forecast.Sample) {
 			return
 		}
 		if !tr.lost {
-			d := r3.Norm(r3.Sub(s.P, tr.lastP))
-			if d > e.maxSpeed*dt {
-				e.reject(s.T, tr.id, RejectSpeed, d/dt)
+			v := r3.Sub(s.P, tr.lastP)
+			d2, lim := v.X*v.X+v.Y*v.Y+v.Z*v.Z, e.maxSpeed*dt
+			if d2 > lim*lim {
+				e.reject(s.T, tr.id, RejectSpeed, math.Sqrt(d2)/dt)
 				return
 			}
 		}
@@ -1095,6 +1110,46 @@ func (e *Engine) Stats() Stats { return e.stats }
 // Now returns the engine's time: the latest time of an accepted sample,
 // robot state or Advance.
 func (e *Engine) Now() float64 { return e.now }
+
+// Request is the current request of one track for one zone (see
+// Engine.Requests).
+type Request struct {
+	Reason             // the request: rule, level, scale, separations, time to entry
+	T          float64 // time of the track's latest sample
+	TrackIndex int     // the track's place in the order of first appearance
+	ZoneIndex  int     // the zone's place in the zone set
+}
+
+// Requests appends to dst the current requests of reduce or hold of the
+// tracks that are not lost, in the order of State (tracks in order of first
+// appearance, zones in zone-set order), and returns it: the pairs of State
+// whose Level is not clear, without the fail-safe hold of lost tracks.
+func (e *Engine) Requests(dst []Request) []Request {
+	for ti, tr := range e.tracks {
+		if !tr.has || tr.lost {
+			continue
+		}
+		for z := range tr.pairs {
+			if p := &tr.pairs[z]; p.step > 0 {
+				dst = append(dst, Request{Reason: p.reason, T: tr.lastT, TrackIndex: ti, ZoneIndex: z})
+			}
+		}
+	}
+	return dst
+}
+
+// Separations appends to dst the signed distances (m, margins not
+// subtracted, negative inside) from the latest accepted sample of track to
+// every zone, in zone-set order, as the rules last used them (after a robot
+// state, at the zones' new poses), and returns it; ok is false for a track
+// the engine has no sample of.
+func (e *Engine) Separations(track string, dst []float64) (_ []float64, ok bool) {
+	tr := e.track(track)
+	if tr == nil || !tr.has {
+		return dst, false
+	}
+	return append(dst, tr.sep...), true
+}
 
 // TrackZone is the latest derived state of one track against one zone.
 type TrackZone struct {
