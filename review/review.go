@@ -195,13 +195,13 @@ type trackState struct {
 
 // run is the replay of one recording.
 type run struct {
-	rv    *Reviewer
-	name  string
-	eng   *policy.Engine
-	zs    *zones.ZoneSet
-	nz    int
-	evs   []policy.Event
-	state []policy.TrackZone
+	rv   *Reviewer
+	name string
+	eng  *policy.Engine
+	zs   *zones.ZoneSet
+	nz   int
+	evs  []policy.Event
+	reqs []policy.Request
 
 	tracks []*trackState
 	byID   map[string]*trackState
@@ -372,7 +372,11 @@ func (r *run) accepted(s forecast.Sample) {
 	if s.T > r.last {
 		r.last = s.T
 	}
-	tr.seps = r.zs.SignedDistances(s.P, tr.seps)
+	// The engine has just measured the sample against the zones.
+	var ok bool
+	if tr.seps, ok = r.eng.Separations(s.Track, tr.seps[:0]); !ok {
+		tr.seps = r.zs.SignedDistances(s.P, tr.seps)
+	}
 	tr.ring.push(s.T, s.P, tr.seps)
 	tr.path.add(s.P, gap)
 	for z := range tr.pairs {
@@ -425,21 +429,21 @@ func (r *run) requests() {
 	if r.rv.opt.AsRecorded || r.eng.Advisory().Level == policy.LevelClear {
 		return
 	}
-	r.state = r.eng.State(r.state[:0])
-	for i := range r.state {
-		tz := &r.state[i]
-		if tz.Level == policy.LevelClear || tz.Rule == policy.RuleTrackingLost || tz.Lost {
+	r.reqs = r.eng.Requests(r.reqs[:0])
+	for i := range r.reqs {
+		q := &r.reqs[i]
+		if q.Rule == policy.RuleTrackingLost {
 			continue
 		}
-		ti := i / r.nz
+		ti := q.TrackIndex
 		var tr *trackState
-		if ti < len(r.tracks) && r.tracks[ti].id == tz.Track {
+		if ti < len(r.tracks) && r.tracks[ti].id == q.Track {
 			tr = r.tracks[ti]
-		} else if tr = r.byID[tz.Track]; tr == nil {
+		} else if tr = r.byID[q.Track]; tr == nil {
 			continue
 		}
-		z := i % r.nz
-		if tr.pairs[z].ep.request(tz.T, r.epRelease, r.rv.window, r.judge(tr, z)) {
+		z := q.ZoneIndex
+		if tr.pairs[z].ep.request(q.T, r.epRelease, r.rv.window, r.judge(tr, z)) {
 			r.rv.res.Totals.Warnings++
 			r.rv.warnings[z]++
 			tr.pairs[z].ep.cur.minSep = tr.seps[z]
