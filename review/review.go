@@ -356,7 +356,7 @@ func (r *run) sample(s forecast.Sample) {
 
 // accepted books an accepted sample: separations, closes, history, path.
 func (r *run) accepted(s forecast.Sample) {
-	tr := r.byID[s.Track]
+	tr := r.track(s.Track)
 	if tr == nil {
 		tr = &trackState{id: s.Track, seps: make([]float64, r.nz), pairs: make([]pairState, r.nz), lossAt: -1}
 		for i := range tr.pairs {
@@ -402,6 +402,20 @@ func (r *run) accepted(s forecast.Sample) {
 		}
 	}
 	r.closeCaptures(s.T)
+}
+
+// track returns the state of the track with the given id, or nil. A few
+// tracks are found by comparing ids, cheaper than hashing once per sample.
+func (r *run) track(id string) *trackState {
+	if len(r.tracks) <= 8 {
+		for _, tr := range r.tracks {
+			if tr.id == id {
+				return tr
+			}
+		}
+		return nil
+	}
+	return r.byID[id]
 }
 
 // judge returns the callback that books a settled episode of track tr

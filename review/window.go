@@ -109,7 +109,7 @@ func (d *pathDecimator) add(p r3.Vec, newSeg bool) {
 		return
 	}
 	seg := &d.segs[len(d.segs)-1]
-	if r3.Norm(r3.Sub(p, (*seg)[len(*seg)-1])) >= d.step {
+	if v := r3.Sub(p, (*seg)[len(*seg)-1]); v.X*v.X+v.Y*v.Y+v.Z*v.Z >= d.step*d.step {
 		*seg = append(*seg, p)
 		d.n++
 		d.has = false
