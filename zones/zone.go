@@ -346,11 +346,15 @@ func (s *ZoneSet) SweepSelected(path PathView, cutoff float64, out []SweepResult
 	out = out[:len(s.zones)]
 	n := min(len(path.T), len(path.P), len(path.R))
 	s.scratch.grow(n)
-	pb := boxOfPath(path)
 	s.scratch.measured = false
+	var pb pathBox
+	boxed := false
 	for i := range s.zones {
 		if i < len(skip) && skip[i] {
 			continue
+		}
+		if !boxed {
+			pb, boxed = boxOfPath(path), true
 		}
 		out[i] = s.zones[i].sweep(path, &pb, cutoff, &s.scratch, s.geometry(i))
 	}
