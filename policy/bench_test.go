@@ -56,7 +56,7 @@ func benchCell(b *testing.B) (*zones.Config, *zones.ZoneSet) {
 // each way) between the walkway and points next to the pallet station, the
 // infeed and the wrapper, so that some zones are near and some far.
 func BenchmarkSample(b *testing.B) {
-	for _, kind := range []string{forecast.KindCV, forecast.KindKalmanCV} {
+	for _, kind := range []string{forecast.KindCV, forecast.KindKalmanCV, forecast.KindFitted} {
 		b.Run(kind, func(b *testing.B) {
 			cfg, zs := benchCell(b)
 			m, err := forecast.NewModel(forecast.Settings{Kind: kind})
