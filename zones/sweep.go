@@ -253,8 +253,9 @@ func (r *sweepRun) evalHull(fn shapeFns, k int) {
 // point up to which the first of those bounds proves f > 0 (f cannot reach
 // 0 before up_x − up_i = f_i), otherwise at its middle point; the point is
 // evaluated and both parts are searched. A run of one segment goes to the
-// lower tier,
-// which halves the segment itself with the same test and sharper bounds:
+// lower tier, which halves the segment itself with the same test and
+// sharper bounds, and splits it before the first touch where f can first
+// reach 0 as well:
 // for convex shapes the tangents at both ends (f is convex along a segment
 // because the signed distance of a convex solid is a convex function and
 // P, R are affine in t); for non-convex shapes the tangents of their convex
@@ -405,7 +406,7 @@ func (r *sweepRun) segment(fn shapeFns, k int, clear bool) {
 		// (the touch is there to be found).
 		if fn.refiner != nil && (r.touched || it.clear || minf(it.ga, it.gb) > 0) {
 			lb = maxf(lb, fn.refiner.refineBound(e0.p, dp, r0, dr, r.margin, it.a, it.b, it.ga, it.gb))
-			if (r.touched || lb > 0) && lb >= r.best-tol {
+			if (r.touched || lb > 0 || it.clear) && lb >= r.best-tol {
 				r.lbAll = minf(r.lbAll, lb)
 				continue
 			}
@@ -448,8 +449,10 @@ func (r *sweepRun) segment(fn shapeFns, k int, clear bool) {
 			r.best, r.bestT = gm, t0+s*dt
 		}
 		left, right := *it, *it
-		right.a, right.ga, right.da, right.clear = s, gm, dm, false
-		left.b, left.gb, left.db, left.clear = s, gm, dm, newton
+		// Both parts of a clear piece are clear; the part before a split
+		// where f can first reach 0 is clear.
+		right.a, right.ga, right.da = s, gm, dm
+		left.b, left.gb, left.db, left.clear = s, gm, dm, it.clear || newton
 		if r.hasH {
 			hs, hgr := fn.hull.sdGrad(q)
 			hm, hdm := hs-off, r3.Dot(hgr, dp)-dr
