@@ -24,8 +24,8 @@ func demoCell(t *testing.T) (*zones.Config, *zones.ZoneSet) {
 }
 
 // TestDemoCellSeparation: in the demo cell the robot's stopping data give,
-// by hand (ISO/TS 15066:2016 §5.5.4, Sh = vh·(Tr + Ts), Sr = vr·Tr, with the
-// configured 40 ms input latency added to Tr): vh = 1.6 m/s, vr = 1.0 m/s,
+// by hand (ISO/TS 15066:2016 §5.5.4, Sh = v_h·(Tr + Ts), Sr = v_r·Tr, with the
+// configured 40 ms input latency added to Tr): v_h = 1.6 m/s, v_r = 1.0 m/s,
 // Tr = 0.1 + 0.04 = 0.14 s, Ts = 0.3 s, Ss = 0.20 m, C = 0 m,
 // Zd = 0.05 m, Zr = 0.02 m: Sh = 1.6·0.44 = 0.704, Sr = 0.14,
 // Sp = 0.704 + 0.14 + 0.20 + 0 + 0.05 + 0.02 = 1.114 m. A hand held at the

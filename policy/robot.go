@@ -18,14 +18,14 @@ type RobotState struct {
 	T      float64 // time on the samples' axis; never earlier than the previous state
 	Frames []FramePose
 
-	// HasSpeed: Speed is the robot's speed towards the operator (vr).
+	// HasSpeed: Speed is the robot's speed towards the operator (v_r).
 	// A negative value (moving away) is taken as 0.
 	HasSpeed bool
 	Speed    float64
 
 	// HasStopping: StoppingTime (Ts, > 0 to be used) and, when > 0,
 	// StoppingDistance (Ss) are the robot's current stopping data. When
-	// StoppingDistance is 0 the engine uses vr·Ts (see
+	// StoppingDistance is 0 the engine uses v_r·Ts (see
 	// safety.ProtectiveSeparation).
 	HasStopping      bool
 	StoppingTime     float64

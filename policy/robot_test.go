@@ -23,7 +23,7 @@ func robotCell(t testing.TB) (*zones.Config, *zones.ZoneSet) {
 		StoppingTime:             zones.Duration(300e6), // Ts = 0.3 s
 		StoppingDistance:         0.15,                  // Ss
 		ReactionTime:             zones.Duration(100e6), // Tr = 0.1 s
-		Speed:                    1.0,                   // vr
+		Speed:                    1.0,                   // v_r
 		Intrusion:                0.1,                   // C
 		PositionUncertaintyHuman: 0.05,                  // Zd
 		PositionUncertaintyRobot: 0.02,                  // Zr
@@ -42,12 +42,12 @@ func robotCell(t testing.TB) (*zones.Config, *zones.ZoneSet) {
 
 // TestProtectiveSeparationRule: a hand at rest near a robot-attached zone
 // gets hold (rule protective-separation) exactly when its separation is
-// below Sp. Sp by hand, ISO/TS 15066:2016 §5.5.4 with Sh = vh·(Tr + Ts),
-// Sr = vr·Tr, vh = 1.6 m/s (ISO 13855):
+// below Sp. Sp by hand, ISO/TS 15066:2016 §5.5.4 with Sh = v_h·(Tr + Ts),
+// Sr = v_r·Tr, v_h = 1.6 m/s (ISO 13855):
 //
-//	configured vr = 1.0 m/s, Tr = 0.1 s, Ts = 0.3 s, Ss = 0.15 m, C = 0.1 m,
+//	configured v_r = 1.0 m/s, Tr = 0.1 s, Ts = 0.3 s, Ss = 0.15 m, C = 0.1 m,
 //	Zd = 0.05 m, Zr = 0.02 m: Sp = 0.64 + 0.1 + 0.15 + 0.1 + 0.05 + 0.02 = 1.06 m;
-//	live vr = 2.0 m/s: Sr = 0.2, Sp = 1.16 m;
+//	live v_r = 2.0 m/s: Sr = 0.2, Sp = 1.16 m;
 //	then 50 ms latency on the track: Tr = 0.15 s, Sh = 1.6·0.45 = 0.72,
 //	Sr = 2.0·0.15 = 0.3, Sp = 0.72 + 0.3 + 0.15 + 0.17 = 1.34 m.
 func TestProtectiveSeparationRule(t *testing.T) {
@@ -91,7 +91,7 @@ func TestProtectiveSeparationRule(t *testing.T) {
 	}
 	feed(1)
 	if r := e.Advisory().Reasons; len(r) != 1 || r[0].Rule != RuleSeparation || math.Abs(r[0].Required-1.16) > tol {
-		t.Errorf("vr 2 m/s: reasons %+v, want Sp 1.16 m", r)
+		t.Errorf("v_r 2 m/s: reasons %+v, want Sp 1.16 m", r)
 	}
 	// 50 ms input latency on the track adds to Tr: Sp = 1.34 m.
 	if err := e.SetLatency("op1/right", 0.05); err != nil {

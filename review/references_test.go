@@ -18,7 +18,7 @@ import (
 // clause 6.2.3 (clause number from memory) — computed by hand for cells
 // whose stopping time (system latency 0) is T and whose detection
 // capability is d, and the ISO/TS 15066:2016 §5.5.4 protective separation
-// distance Sp = vh·(Tr + Ts) + vr·Tr + Ss + C + Zd + Zr for stated inputs.
+// distance Sp = v_h·(Tr + Ts) + v_r·Tr + Ss + C + Zd + Zr for stated inputs.
 func TestMarginReferences(t *testing.T) {
 	model, err := forecast.NewModel(forecast.Settings{Kind: forecast.KindCV})
 	if err != nil {
@@ -64,8 +64,8 @@ func TestMarginReferences(t *testing.T) {
 		}
 	}
 
-	// ISO/TS 15066 with the example cell's stopping data: vh = 1.6 m/s
-	// (ISO 13855 walking speed), vr = 1.0 m/s, Tr = reaction time 100 ms +
+	// ISO/TS 15066 with the example cell's stopping data: v_h = 1.6 m/s
+	// (ISO 13855 walking speed), v_r = 1.0 m/s, Tr = reaction time 100 ms +
 	// system latency 60 ms = 0.16 s, Ts = 0.3 s, Ss = 0.20 m (given),
 	// C = 0 m, Zd = 0.05 m, Zr = 0.02 m:
 	//   Sh = 1.6·(0.16 + 0.3) = 0.736 m, Sr = 1.0·0.16 = 0.16 m,

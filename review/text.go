@@ -360,7 +360,7 @@ func (ref *References) writeText(b *bytes.Buffer) {
 		in := ref.SeparationIn
 		fmt.Fprintf(b, "  ISO/TS 15066 protective separation distance: Sp = Sh + Sr + Ss + C + Zd + Zr = %s + %s + %s + %s + %s + %s = %s mm\n",
 			mm(s.Sh), mm(s.Sr), mm(s.Ss), mm(s.C), mm(s.Zd), mm(s.Zr), mm(s.Sp))
-		fmt.Fprintf(b, "    (vh = %s mm/s, vr = %s mm/s, Tr = reaction time + system latency = %s, Ts = %s)\n",
+		fmt.Fprintf(b, "    (v_h = %s mm/s, v_r = %s mm/s, Tr = reaction time + system latency = %s, Ts = %s)\n",
 			strconv.FormatFloat(in.HumanSpeed*1000, 'f', 0, 64), strconv.FormatFloat(in.RobotSpeed*1000, 'f', 0, 64), ms(in.ReactionTime), ms(in.StoppingTime))
 	} else {
 		fmt.Fprintf(b, "  ISO/TS 15066 protective separation distance: not computed: %s\n", ref.SeparationErr)

@@ -9,10 +9,10 @@ import (
 // separation distance. Every length is in metres, every speed in m/s, every
 // time in seconds; every value must be finite and >= 0.
 type SeparationInputs struct {
-	// HumanSpeed vh: the operator's speed towards the robot. Use
+	// HumanSpeed v_h: the operator's speed towards the robot. Use
 	// WalkingSpeed (1.6 m/s, from ISO 13855) when no measured value is used.
 	HumanSpeed float64
-	// RobotSpeed vr: the robot's speed towards the operator.
+	// RobotSpeed v_r: the robot's speed towards the operator.
 	RobotSpeed float64
 	// ReactionTime Tr: time for the system to respond to the operator's
 	// presence up to the initiation of the robot's stop.
@@ -53,10 +53,10 @@ type Separation struct {
 //
 // with the constant-speed simplification of the integrals:
 //
-//	Sh = vh·(Tr + Ts)   the operator keeps approaching until the robot rests,
-//	Sr = vr·Tr          the robot keeps its speed until the stop begins,
+//	Sh = v_h·(Tr + Ts)   the operator keeps approaching until the robot rests,
+//	Sr = v_r·Tr          the robot keeps its speed until the stop begins,
 //	Ss = StoppingDistance when given (> 0); otherwise vs·Ts when a stopping
-//	     speed is given (> 0); otherwise vr·Ts, i.e. the robot is assumed to
+//	     speed is given (> 0); otherwise v_r·Ts, i.e. the robot is assumed to
 //	     keep its speed for the whole stopping time — an upper bound of the
 //	     stopping distance, since the speed does not grow while stopping.
 //
@@ -66,8 +66,8 @@ func ProtectiveSeparation(in SeparationInputs) (Separation, error) {
 		name string
 		v    float64
 	}{
-		{"human speed vh", in.HumanSpeed},
-		{"robot speed vr", in.RobotSpeed},
+		{"human speed v_h", in.HumanSpeed},
+		{"robot speed v_r", in.RobotSpeed},
 		{"reaction time Tr", in.ReactionTime},
 		{"stopping time Ts", in.StoppingTime},
 		{"stopping distance Ss", in.StoppingDistance},

@@ -7,7 +7,7 @@ import (
 
 // TestProtectiveSeparation checks Sp against hand calculations of
 // ISO/TS 15066:2016 §5.5.4 (formula Sp = Sh + Sr + Ss + C + Zd + Zr) with the
-// constant-speed simplification Sh = vh·(Tr + Ts), Sr = vr·Tr. Inputs and
+// constant-speed simplification Sh = v_h·(Tr + Ts), Sr = v_r·Tr. Inputs and
 // arithmetic are stated for each case.
 func TestProtectiveSeparation(t *testing.T) {
 	cases := []struct {
@@ -16,7 +16,7 @@ func TestProtectiveSeparation(t *testing.T) {
 		want Separation
 	}{
 		{
-			// ISO/TS 15066:2016 §5.5.4: vh = 1.6 m/s, vr = 1.0 m/s, Tr = 0.1 s,
+			// ISO/TS 15066:2016 §5.5.4: v_h = 1.6 m/s, v_r = 1.0 m/s, Tr = 0.1 s,
 			// Ts = 0.3 s, Ss = 0.15 m, C = 0.1 m, Zd = 0.05 m, Zr = 0.02 m:
 			// Sh = 1.6·0.4 = 0.64; Sr = 1.0·0.1 = 0.1; Ss = 0.15;
 			// Sp = 0.64 + 0.1 + 0.15 + 0.1 + 0.05 + 0.02 = 1.06 m.
@@ -35,7 +35,7 @@ func TestProtectiveSeparation(t *testing.T) {
 		},
 		{
 			// ISO/TS 15066:2016 §5.5.4: neither stopping distance nor speed:
-			// Ss = vr·Ts = 1.0·0.3 = 0.3 m (upper bound);
+			// Ss = v_r·Ts = 1.0·0.3 = 0.3 m (upper bound);
 			// Sp = 0.64 + 0.1 + 0.3 + 0.17 = 1.21 m.
 			"robot speed bound",
 			SeparationInputs{HumanSpeed: 1.6, RobotSpeed: 1.0, ReactionTime: 0.1, StoppingTime: 0.3,
@@ -43,7 +43,7 @@ func TestProtectiveSeparation(t *testing.T) {
 			Separation{Sp: 1.21, Sh: 0.64, Sr: 0.1, Ss: 0.3, C: 0.1, Zd: 0.05, Zr: 0.02},
 		},
 		{
-			// ISO/TS 15066:2016 §5.5.4: robot at rest, vh = 1.6 m/s,
+			// ISO/TS 15066:2016 §5.5.4: robot at rest, v_h = 1.6 m/s,
 			// Tr = 0.2 s, Ts = 0.5 s: Sh = 1.6·0.7 = 1.12 m, Sr = Ss = 0;
 			// Sp = 1.12 m.
 			"robot at rest",
@@ -51,8 +51,8 @@ func TestProtectiveSeparation(t *testing.T) {
 			Separation{Sp: 1.12, Sh: 1.12},
 		},
 		{
-			// ISO/TS 15066:2016 §5.5.4: measured hand speed vh = 2.5 m/s,
-			// vr = 0.25 m/s, Tr = 0.08 s, Ts = 0.12 s, Ss = 0.02 m, C = 0.208 m
+			// ISO/TS 15066:2016 §5.5.4: measured hand speed v_h = 2.5 m/s,
+			// v_r = 0.25 m/s, Tr = 0.08 s, Ts = 0.12 s, Ss = 0.02 m, C = 0.208 m
 			// (8·(40−14) mm), Zd = Zr = 0: Sh = 2.5·0.2 = 0.5; Sr = 0.02;
 			// Sp = 0.5 + 0.02 + 0.02 + 0.208 = 0.748 m.
 			"hand speed",

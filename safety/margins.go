@@ -17,8 +17,8 @@ type StoppingData struct {
 	// ReactionTime is the reaction time Tr of ISO/TS 15066 up to the
 	// initiation of the stop, without SystemLatency.
 	ReactionTime float64
-	// RobotSpeed vr towards the operator; StoppingDistance Ss when known
-	// (0: vr·Ts).
+	// RobotSpeed v_r towards the operator; StoppingDistance Ss when known
+	// (0: v_r·Ts).
 	RobotSpeed       float64
 	StoppingDistance float64
 	// Intrusion C, HumanUncertainty Zd, RobotUncertainty Zr (ISO/TS 15066).
@@ -46,7 +46,7 @@ type References struct {
 	MinDistance    *MinimumDistance
 	MinDistanceErr string
 	// Separation is the ISO/TS 15066 protective separation distance with
-	// vh = WalkingSpeed, Tr = ReactionTime + SystemLatency, Ts, vr, Ss, C,
+	// v_h = WalkingSpeed, Tr = ReactionTime + SystemLatency, Ts, v_r, Ss, C,
 	// Zd, Zr.
 	Separation    *Separation
 	SeparationIn  SeparationInputs
@@ -55,7 +55,7 @@ type References struct {
 
 // ReferenceDistances computes the ISO 13855 minimum distance (T = stopping
 // time + system latency, d = detection capability) and the ISO/TS 15066
-// protective separation distance (vh = 1.6 m/s, Tr = reaction time + system
+// protective separation distance (v_h = 1.6 m/s, Tr = reaction time + system
 // latency) for the stopping data. A missing input (no detection capability,
 // no stopping time, no robot speed) leaves that distance out with a reason.
 func ReferenceDistances(s StoppingData) References {

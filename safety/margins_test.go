@@ -40,8 +40,8 @@ func TestRecommendMargin(t *testing.T) {
 // TestReferenceDistances: T = stopping time + system latency, and the
 // ISO/TS 15066 reaction time includes the system latency. Hand-computed
 // (ISO 13855:2010 6.2.3, clause number from memory; ISO/TS 15066:2016
-// 5.5.4): Ts = 0.3 s, latency 0.05 s, Tr = 0.1 s, d = 30 mm, vr = 1 m/s,
-// Ss = vr·Ts = 0.3 m (no distance given), C = 0.1, Zd = 0.05, Zr = 0.02 m.
+// 5.5.4): Ts = 0.3 s, latency 0.05 s, Tr = 0.1 s, d = 30 mm, v_r = 1 m/s,
+// Ss = v_r·Ts = 0.3 m (no distance given), C = 0.1, Zd = 0.05, Zr = 0.02 m.
 //
 //	ISO 13855: T = 0.35 s; 2000·0.35 + 8·16 = 828 mm > 500 → 1600·0.35 + 128 = 688 mm.
 //	ISO/TS 15066: Tr = 0.15 s; Sh = 1.6·(0.15 + 0.3) = 0.72, Sr = 1·0.15 = 0.15,

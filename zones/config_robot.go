@@ -21,11 +21,11 @@ type RobotConfig struct {
 	Frames []FrameConfig `yaml:"frames"`
 	// Stopping data for the protective separation distance (ISO/TS 15066).
 	StoppingTime     Duration `yaml:"stopping_time"`     // Ts
-	StoppingDistance Length   `yaml:"stopping_distance"` // Ss; 0: Ss = vr·Ts (upper bound)
+	StoppingDistance Length   `yaml:"stopping_distance"` // Ss; 0: Ss = v_r·Ts (upper bound)
 	// ReactionTime Tr of the system up to the initiation of the stop. The
 	// engine adds the measured input latency of the track to it.
 	ReactionTime             Duration `yaml:"reaction_time"`
-	Speed                    Speed    `yaml:"speed"`                      // vr towards the operator, when not sent live
+	Speed                    Speed    `yaml:"speed"`                      // v_r towards the operator, when not sent live
 	Intrusion                Length   `yaml:"intrusion"`                  // C
 	PositionUncertaintyHuman Length   `yaml:"position_uncertainty_human"` // Zd
 	PositionUncertaintyRobot Length   `yaml:"position_uncertainty_robot"` // Zr

@@ -63,7 +63,7 @@ func TestMarginsCommand(t *testing.T) {
 	text := out.String()
 	for _, want := range []string{
 		"Horizon the cell needs: 360 ms = robot stopping time 300 ms + system latency 60 ms",
-		// vr = 0 here, Ss = 0.20 m given, C = 0 (d = 14 mm): Sh =
+		// v_r = 0 here, Ss = 0.20 m given, C = 0 (d = 14 mm): Sh =
 		// 1.6·(0.1 + 0.06 + 0.3) = 0.736 m, Sr = 0,
 		// Sp = 0.736 + 0 + 0.20 + 0 + 0.05 + 0.02 = 1.006 m
 		// (ISO/TS 15066:2016 5.5.4).

@@ -121,7 +121,7 @@ func TestSyntheticRoundTrip(t *testing.T) {
 }
 
 // DEC reals: ../shared/data/c3d/README.md, "DEC rule" and the byte-level
-// header checks table (rate bytes 48 43 00 00 = 50.0; Eb015vi/vr scale
+// header checks table (rate bytes 48 43 00 00 = 50.0; Eb015vi and Eb015vr scale
 // bytes aa 3e ab aa / aa be ab aa = ±float32(1/12)).
 func TestDECFloat(t *testing.T) {
 	cases := []struct {

@@ -381,8 +381,8 @@ func TestSample01Analog(t *testing.T) {
 
 // README "Cross-variant identity": same header fields and parameters except
 // the processor and the sign of the scale; same validity, camera masks,
-// residuals and analog values; vi and si coordinates equal pi's, vr and
-// sr equal pr's, and int vs real agree in float32 (README Tolerances).
+// residuals and analog values; Eb015vi and Eb015si coordinates equal Eb015pi's,
+// Eb015vr and Eb015sr equal Eb015pr's, and int vs real agree in float32 (README Tolerances).
 func TestSample01CrossVariant(t *testing.T) {
 	all := loadSample01(t)
 	ref := map[bool]sample{false: all["Eb015pi"], true: all["Eb015pr"]}
