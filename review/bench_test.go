@@ -26,7 +26,11 @@ import (
 // fitted forecast); BenchmarkReviewHourCV with the constant-velocity
 // forecast, to show the forecaster's share; BenchmarkMarginsHour sweeps
 // the margins over it. The goal is a review at most twice as long as the
-// decoding alone.
+// decoding alone. The review's source (Records) reads ahead on a goroutine
+// of its own, so that with two processors or more decoding and the engine
+// share the time; -cpu 1 times a review on one processor:
+//
+//	go test ./review -run '^$' -bench 'DecodeHour|ReviewHour$' -benchtime 1x -cpu 1,2
 //
 // The engine's share, without the decoder (samples decoded beforehand):
 //

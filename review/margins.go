@@ -324,6 +324,7 @@ func (m *Margins) Add(name string, src Source) error {
 		}
 	}
 	m.res.Recordings = append(m.res.Recordings, name)
+	defer stopSource(src)
 	var items uint64
 	var ferr error
 	for {

@@ -250,6 +250,7 @@ func (rv *Reviewer) Replay(name string, src Source) error {
 	if !rv.opt.AsRecorded {
 		r.epRelease = rv.release
 	}
+	defer stopSource(src)
 	var items uint64
 	var ferr error
 	for {

@@ -49,12 +49,18 @@ type Source interface {
 }
 
 // Records reads every kind of line of a JSONL recording: samples, robot
-// states, advisories and rejections (headers are skipped).
-func Records(rr *bus.RecordReader) Source { return &recordSource{rr: rr} }
+// states, advisories and rejections (headers are skipped). The lines are
+// read and decoded ahead of the caller on a goroutine of the source's own
+// (see readAhead), which has ended when Next has returned io.EOF or a fatal
+// error; Replay and Margins.Add read their sources to that point.
+func Records(rr *bus.RecordReader) Source {
+	s := &recordSource{rr: rr}
+	return newReadAhead(s.next)
+}
 
 type recordSource struct{ rr *bus.RecordReader }
 
-func (s *recordSource) Next() (Item, error) {
+func (s *recordSource) next() (Item, error) {
 	for {
 		rec, err := s.rr.Next()
 		if err != nil {
@@ -74,12 +80,17 @@ func (s *recordSource) Next() (Item, error) {
 }
 
 // Samples reads a recording that holds only samples (CSV, C3D, or any
-// forecast.SampleReader such as bus.OpenSamples gives).
-func Samples(r forecast.SampleReader) Source { return &sampleSource{r: r} }
+// forecast.SampleReader such as bus.OpenSamples gives). Like Records, it
+// reads ahead of the caller on a goroutine of its own, which has ended
+// when Next has returned io.EOF or a fatal error.
+func Samples(r forecast.SampleReader) Source {
+	s := &sampleSource{r: r}
+	return newReadAhead(s.next)
+}
 
 type sampleSource struct{ r forecast.SampleReader }
 
-func (s *sampleSource) Next() (Item, error) {
+func (s *sampleSource) next() (Item, error) {
 	smp, err := s.r.Next()
 	if err != nil {
 		return Item{}, err
