@@ -105,8 +105,7 @@ func (r *readAhead) Next() (Item, error) {
 		}
 		r.cur, r.i = b, 0
 	}
-	res := r.cur.res[r.i]
-	r.cur.res[r.i] = readResult{}
+	res := &r.cur.res[r.i]
 	r.i++
 	if res.err != nil && !recoverable(res.err) {
 		r.end = res.err
