@@ -2,7 +2,6 @@ package main
 
 import (
 	"encoding/json"
-	"errors"
 	"fmt"
 	"io"
 	"os"
@@ -242,8 +241,8 @@ type recProgress struct {
 	on    bool
 	paths []string
 	total int64
-	done  int64 // bytes of finished files
-	cur   atomic.Int64
+	done  atomic.Int64 // bytes of finished files (added on the reading goroutine)
+	cur   atomic.Int64 // bytes read of the current file
 	file  int
 	n     uint64 // items so far in all files
 	base  uint64 // items in finished files
@@ -287,7 +286,7 @@ func (p *recProgress) fileDone(path string) {
 		return
 	}
 	if st, err := os.Stat(path); err == nil {
-		p.done += st.Size()
+		p.done.Add(st.Size())
 	}
 	p.cur.Store(0)
 	p.draw(true)
@@ -302,8 +301,7 @@ func (c *countingReader) Read(b []byte) (int, error) {
 	n, err := c.r.Read(b)
 	c.p.cur.Add(int64(n))
 	if err == io.EOF {
-		c.p.done += c.p.cur.Load()
-		c.p.cur.Store(0)
+		c.p.done.Add(c.p.cur.Swap(0))
 	}
 	return n, err
 }
@@ -323,7 +321,7 @@ func (p *recProgress) draw(force bool) {
 	p.last = now
 	frac := 0.0
 	if p.total > 0 {
-		frac = float64(p.done+p.cur.Load()) / float64(p.total)
+		frac = float64(p.done.Load()+p.cur.Load()) / float64(p.total)
 	}
 	frac = min(max(frac, 0), 1)
 	const width = 30
@@ -340,4 +338,3 @@ func (p *recProgress) clear() {
 	}
 }
 
-var _ = errors.New
