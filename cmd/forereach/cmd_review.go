@@ -337,4 +337,3 @@ func (p *recProgress) clear() {
 		fmt.Fprint(p.w, "\r\033[K")
 	}
 }
-
