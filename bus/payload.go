@@ -345,8 +345,21 @@ func mm(m float64) string { return strconv.FormatFloat(m*1000, 'f', 0, 64) + " m
 // EncodeSample writes the single-sample payload of s (for sources, the
 // simulator and tests).
 func EncodeSample(dst []byte, s *SampleRecord) []byte {
-	dst = append(dst, `{"v":1,"t":`...)
+	return appendSample(dst, `{"v":1`, s, false)
+}
+
+// appendSample appends the JSON object of s after prefix (the object's
+// opening and any fields before the sample's): t, arrival when withArrival
+// and set, track, pos, q when given. The payload and the recording line
+// share it, so that both always spell a sample the same way.
+func appendSample(dst []byte, prefix string, s *SampleRecord, withArrival bool) []byte {
+	dst = append(dst, prefix...)
+	dst = append(dst, `,"t":`...)
 	dst = appendFloat(dst, s.T)
+	if withArrival && s.Arrival != 0 {
+		dst = append(dst, `,"arrival":`...)
+		dst = appendFloat(dst, s.Arrival)
+	}
 	dst = append(dst, `,"track":`...)
 	dst = appendString(dst, s.Track)
 	dst = append(dst, `,"pos":[`...)

@@ -235,26 +235,7 @@ func (r *Recorder) Sample(s *SampleRecord) error {
 	if r.err != nil {
 		return r.err
 	}
-	b := append(r.buf[:0], `{"v":1,"kind":"sample","t":`...)
-	b = appendFloat(b, s.T)
-	if s.Arrival != 0 {
-		b = append(b, `,"arrival":`...)
-		b = appendFloat(b, s.Arrival)
-	}
-	b = append(b, `,"track":`...)
-	b = appendString(b, s.Track)
-	b = append(b, `,"pos":[`...)
-	b = appendFloat(b, s.P.X)
-	b = append(b, ',')
-	b = appendFloat(b, s.P.Y)
-	b = append(b, ',')
-	b = appendFloat(b, s.P.Z)
-	b = append(b, ']')
-	if s.HasQuality {
-		b = append(b, `,"q":`...)
-		b = appendFloat(b, s.Quality)
-	}
-	r.buf = append(b, '}', '\n')
+	r.buf = append(appendSample(r.buf[:0], `{"v":1,"kind":"sample"`, s, true), '\n')
 	r.writeLine()
 	return r.err
 }
