@@ -341,7 +341,7 @@ func runEval(args []string, stdout, stderr io.Writer) int {
 		rows = append(rows, sc.Stats(m.name)...)
 	}
 	if *plotPath != "" {
-		if err := createWith(*plotPath, func(w io.Writer) error {
+		if err := writeFile(*plotPath, func(w io.Writer) error {
 			return report.ErrorsFigure(w, rows, report.ErrorsOptions{Title: fmt.Sprintf("Forecast error by horizon (%d files)", len(files))})
 		}); err != nil {
 			return fail(err)
@@ -419,21 +419,6 @@ func loadGains(path string) (*forecast.Gains, error) {
 	}
 	defer f.Close()
 	return forecast.ReadGains(f, path)
-}
-
-// createWith creates path and writes it through fn (figures and gains go to
-// files).
-func createWith(path string, fn func(io.Writer) error) (err error) {
-	f, err := os.Create(path)
-	if err != nil {
-		return err
-	}
-	defer func() {
-		if e := f.Close(); e != nil && err == nil {
-			err = e
-		}
-	}()
-	return fn(f)
 }
 
 func printErrorTable(w io.Writer, rows []forecast.ErrorStats) {

@@ -125,7 +125,7 @@ func runFit(args []string, stdout, stderr io.Writer) int {
 		if err := forecast.WriteGains(stdout, res.Gains); err != nil {
 			return fail(err)
 		}
-	} else if err := createWith(*out, func(w io.Writer) error { return forecast.WriteGains(w, res.Gains) }); err != nil {
+	} else if err := writeFile(*out, func(w io.Writer) error { return forecast.WriteGains(w, res.Gains) }); err != nil {
 		return fail(err)
 	}
 	fmt.Fprintf(summary, "fitted %s on %d files in %d groups (%s); cross-validated errors:\n",

@@ -195,13 +195,13 @@ func runMargins(args []string, stdout, stderr io.Writer) int {
 		return 1
 	}
 	if *svgPath != "" {
-		if err := writeOutput(*svgPath, func(w io.Writer) error { return report.MarginSweepFigure(w, res) }); err != nil {
+		if err := writeFile(*svgPath, func(w io.Writer) error { return report.MarginSweepFigure(w, res) }); err != nil {
 			fmt.Fprintf(stderr, "forereach margins: --svg: %v\n", err)
 			failed = true
 		}
 	}
 	if *yamlPath != "" {
-		if err := writeOutput(*yamlPath, func(w io.Writer) error { _, err := io.WriteString(w, frag); return err }); err != nil {
+		if err := writeFile(*yamlPath, func(w io.Writer) error { _, err := io.WriteString(w, frag); return err }); err != nil {
 			fmt.Fprintf(stderr, "forereach margins: --yaml: %v\n", err)
 			failed = true
 		}

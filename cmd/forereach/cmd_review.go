@@ -161,7 +161,7 @@ func runReview(args []string, stdout, stderr io.Writer) int {
 		}
 	}
 	if *htmlPath != "" {
-		if err := writeOutput(*htmlPath, func(w io.Writer) error { return report.ReviewHTML(w, cfg, res) }); err != nil {
+		if err := writeFile(*htmlPath, func(w io.Writer) error { return report.ReviewHTML(w, cfg, res) }); err != nil {
 			fmt.Fprintf(stderr, "forereach review: --html: %v\n", err)
 			failed = true
 		}
@@ -210,26 +210,6 @@ func eachRecording(path string, opt bus.OpenOptions, prog *recProgress, index in
 	err = use(path, review.Samples(sf))
 	prog.fileDone(path)
 	return err
-}
-
-// writeOutput writes path through a temporary file in the same directory,
-// so that a failure leaves no half-written file behind.
-func writeOutput(path string, write func(io.Writer) error) error {
-	f, err := os.CreateTemp(filepath.Dir(path), "."+filepath.Base(path)+".*")
-	if err != nil {
-		return err
-	}
-	tmp := f.Name()
-	if err := write(f); err != nil {
-		f.Close()
-		os.Remove(tmp)
-		return err
-	}
-	if err := f.Close(); err != nil {
-		os.Remove(tmp)
-		return err
-	}
-	return os.Rename(tmp, path)
 }
 
 // recProgress shows the progress of reading recordings on stderr when it

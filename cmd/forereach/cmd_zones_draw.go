@@ -3,8 +3,6 @@ package main
 import (
 	"fmt"
 	"io"
-	"os"
-	"path/filepath"
 
 	"gonum.org/v1/plot/vg"
 
@@ -59,34 +57,10 @@ func zonesDraw(args []string, stdout, stderr io.Writer) int {
 		}
 		return 0
 	}
-	if err := writeFileAtomic(*out, func(w io.Writer) error { return report.Layout(w, cfg, opt) }); err != nil {
+	if err := writeFile(*out, func(w io.Writer) error { return report.Layout(w, cfg, opt) }); err != nil {
 		fmt.Fprintf(stderr, "forereach zones draw: %v\n", err)
 		return 1
 	}
 	fmt.Fprintf(stdout, "wrote %s (%d zones of cell %s)\n", *out, len(cfg.Zones), cfg.Cell)
 	return 0
-}
-
-// writeFileAtomic writes path through a temporary file in the same
-// directory, so that a failure leaves no half-written file behind.
-func writeFileAtomic(path string, write func(io.Writer) error) error {
-	f, err := os.CreateTemp(filepath.Dir(path), "."+filepath.Base(path)+".*")
-	if err != nil {
-		return err
-	}
-	tmp := f.Name()
-	if err := write(f); err != nil {
-		f.Close()
-		os.Remove(tmp)
-		return err
-	}
-	if err := f.Close(); err != nil {
-		os.Remove(tmp)
-		return err
-	}
-	if err := os.Chmod(tmp, 0o644); err != nil {
-		os.Remove(tmp)
-		return err
-	}
-	return os.Rename(tmp, path)
 }
