@@ -142,7 +142,7 @@ func MarginSweepFigure(w io.Writer, res *review.MarginResult) error {
 	cap.XAlign, cap.YAlign = draw.XLeft, draw.YBottom
 	dc.FillText(cap, vg.Point{X: 4 * vg.Millimeter, Y: capH - 4*vg.Millimeter}, fmt.Sprintf(
 		"Markers: recommended margins (target %s %%, dashed). Horizon %s ms = stopping time + system latency. %d recording(s), %s of samples.",
-		strconv.FormatFloat(res.Target*100, 'f', -1, 64), strconv.FormatFloat(res.Horizon*1000, 'f', 0, 64), len(res.Recordings), fmtDur(res.Duration)))
+		strconv.FormatFloat(res.Target*100, 'f', -1, 64), strconv.FormatFloat(res.Horizon*1000, 'f', 0, 64), len(res.Recordings), review.FormatDuration(res.Duration)))
 	dc.FillText(cap, vg.Point{X: 4 * vg.Millimeter, Y: capH - 8*vg.Millimeter}, "forereach is "+safety.Short+".")
 	_, err := svg.WriteTo(w)
 	return err

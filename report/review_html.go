@@ -4,7 +4,6 @@ import (
 	"fmt"
 	"html/template"
 	"io"
-	"math"
 	"strconv"
 
 	"forereach/review"
@@ -53,42 +52,13 @@ func ReviewHTML(w io.Writer, cfg *zones.Config, res *review.Result) error {
 	return reviewPage.Execute(w, data)
 }
 
-func fmtMM(v float64) string {
-	if math.IsNaN(v) || math.IsInf(v, 0) {
-		return "—"
-	}
-	return strconv.FormatFloat(v*1000, 'f', 0, 64)
-}
-
-func fmtS(v float64) string { return strconv.FormatFloat(v, 'f', 3, 64) }
-
-func fmtOptS(v *float64) string {
-	if v == nil {
-		return "—"
-	}
-	return fmtS(*v)
-}
-
-func fmtDur(s float64) string {
-	if s < 60 {
-		return strconv.FormatFloat(s, 'f', 1, 64) + " s"
-	}
-	h := int(s / 3600)
-	m := int(math.Mod(s, 3600) / 60)
-	sec := math.Mod(s, 60)
-	if h > 0 {
-		return fmt.Sprintf("%d:%02d:%04.1f", h, m, sec)
-	}
-	return fmt.Sprintf("%d:%04.1f", m, sec)
-}
-
 var reviewPage = template.Must(template.New("review").Funcs(template.FuncMap{
-	"mm":   fmtMM,
-	"s":    fmtS,
-	"os":   fmtOptS,
-	"dur":  fmtDur,
-	"pct":  func(v float64) string { return strconv.FormatFloat(v*100, 'f', 1, 64) + " %" },
-	"ms":   func(v float64) string { return strconv.FormatFloat(v*1000, 'f', 0, 64) + " ms" },
+	"mm":   review.FormatMM,
+	"s":    review.FormatSecs,
+	"os":   review.FormatOptSecs,
+	"dur":  review.FormatDuration,
+	"pct":  review.FormatPct,
+	"ms":   review.FormatMS,
 	"inc":  func(i int) int { return i + 1 },
 	"more": func(n, max int) int { return n - max },
 	"short": func(e review.Entry, h float64) bool {
@@ -98,7 +68,7 @@ var reviewPage = template.Must(template.New("review").Funcs(template.FuncMap{
 		if v == nil {
 			return "—"
 		}
-		return fmtMM(*v)
+		return review.FormatMM(*v)
 	},
 	"scale": func(l review.LevelTime) string {
 		if l.Level == "reduce" {

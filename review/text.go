@@ -16,26 +16,33 @@ import (
 // MaxRows is how many rows a text table lists; the JSON output has all.
 const MaxRows = 50
 
-func mm(v float64) string {
+// The formatters of the text tables, also used by the HTML page (package
+// report), so that both spell a value the same way.
+
+// FormatMM writes metres as whole millimetres ("—" for NaN or infinite).
+func FormatMM(v float64) string {
 	if math.IsNaN(v) || math.IsInf(v, 0) {
 		return "—"
 	}
 	return strconv.FormatFloat(v*1000, 'f', 0, 64)
 }
 
-func secs(v float64) string { return strconv.FormatFloat(v, 'f', 3, 64) }
+// FormatSecs writes seconds with three decimals.
+func FormatSecs(v float64) string { return strconv.FormatFloat(v, 'f', 3, 64) }
 
-func optSecs(v *float64) string {
+// FormatOptSecs is FormatSecs, or "—" when there is no value.
+func FormatOptSecs(v *float64) string {
 	if v == nil {
 		return "—"
 	}
-	return secs(*v)
+	return FormatSecs(*v)
 }
 
-func ms(v float64) string { return strconv.FormatFloat(v*1000, 'f', 0, 64) + " ms" }
+// FormatMS writes seconds as whole milliseconds with the unit.
+func FormatMS(v float64) string { return strconv.FormatFloat(v*1000, 'f', 0, 64) + " ms" }
 
-// duration writes seconds as h:mm:ss.s (or s.s s under a minute).
-func duration(s float64) string {
+// FormatDuration writes seconds as h:mm:ss.s (or s.s s under a minute).
+func FormatDuration(s float64) string {
 	if s < 60 {
 		return strconv.FormatFloat(s, 'f', 1, 64) + " s"
 	}
@@ -48,7 +55,8 @@ func duration(s float64) string {
 	return fmt.Sprintf("%d:%04.1f", m, sec)
 }
 
-func pct(v float64) string {
+// FormatPct writes a share as a percentage with one decimal ("—" for NaN).
+func FormatPct(v float64) string {
 	if math.IsNaN(v) {
 		return "—"
 	}
@@ -85,14 +93,14 @@ func (r *Result) WriteText(w io.Writer) error {
 		mode = "advisories as recorded"
 	}
 	fmt.Fprintf(&b, "forereach review: cell %s, %d recording(s), %s of samples (%d samples); %s (forecast model %s)\n",
-		r.Cell, len(r.Recordings), duration(r.Duration), r.Totals.Samples, mode, r.Model)
+		r.Cell, len(r.Recordings), FormatDuration(r.Duration), r.Totals.Samples, mode, r.Model)
 	if r.Horizon > 0 {
-		fmt.Fprintf(&b, "Needed horizon: %s (robot stopping time + system latency); leads shorter than that leave the robot moving at the entry.\n", ms(r.Horizon))
+		fmt.Fprintf(&b, "Needed horizon: %s (robot stopping time + system latency); leads shorter than that leave the robot moving at the entry.\n", FormatMS(r.Horizon))
 	}
 
 	t := newTable(&b, "Recordings", "recording", "start (s)", "end (s)", "duration", "samples", "accepted", "robot states", "advisory lines", "bad lines", "tracks")
 	for _, rc := range r.Recordings {
-		t.row(rc.Name, secs(rc.Start), secs(rc.End), duration(rc.End-rc.Start), strconv.FormatUint(rc.Samples, 10),
+		t.row(rc.Name, FormatSecs(rc.Start), FormatSecs(rc.End), FormatDuration(rc.End-rc.Start), strconv.FormatUint(rc.Samples, 10),
 			strconv.FormatUint(rc.Accepted, 10), strconv.FormatUint(rc.Robot, 10), strconv.FormatUint(rc.Recorded, 10),
 			strconv.FormatUint(rc.BadLines, 10), strconv.Itoa(rc.Tracks))
 	}
@@ -101,19 +109,19 @@ func (r *Result) WriteText(w io.Writer) error {
 	tt := r.Totals
 	fmt.Fprintf(&b, "\nSummary: %d entries (%d missed", tt.Entries, tt.Missed)
 	if r.Horizon > 0 {
-		fmt.Fprintf(&b, ", %d warned less than %s ahead", tt.ShortLead, ms(r.Horizon))
+		fmt.Fprintf(&b, ", %d warned less than %s ahead", tt.ShortLead, FormatMS(r.Horizon))
 	}
 	fmt.Fprintf(&b, "), %d near misses (closer than %s mm), %d false alarms of %d warning episodes (window %s s), %d tracking losses, %d rejected inputs, %d unreadable lines.\n",
-		tt.NearMisses, mm(r.NearMiss), tt.FalseAlarms, tt.Warnings, strconv.FormatFloat(r.FalseAlarmWindow, 'f', -1, 64),
+		tt.NearMisses, FormatMM(r.NearMiss), tt.FalseAlarms, tt.Warnings, strconv.FormatFloat(r.FalseAlarmWindow, 'f', -1, 64),
 		tt.TrackingLosses, tt.Rejected, tt.BadLines)
 
 	t = newTable(&b, "Per zone", "zone", "entries", "missed", "min lead (s)", "median lead (s)", "near misses", "closest (mm)", "warnings", "false alarms")
 	for _, z := range r.Zones {
 		closest := "—"
 		if z.MinNearMiss != nil {
-			closest = mm(*z.MinNearMiss)
+			closest = FormatMM(*z.MinNearMiss)
 		}
-		t.row(z.Name, strconv.Itoa(z.Entries), strconv.Itoa(z.Missed), optSecs(z.MinLead), optSecs(z.MedianLead),
+		t.row(z.Name, strconv.Itoa(z.Entries), strconv.Itoa(z.Missed), FormatOptSecs(z.MinLead), FormatOptSecs(z.MedianLead),
 			strconv.Itoa(z.NearMisses), closest, strconv.Itoa(z.Warnings), strconv.Itoa(z.FalseAlarms))
 	}
 	t.flush()
@@ -133,7 +141,7 @@ func (r *Result) WriteText(w io.Writer) error {
 		} else if r.Horizon > 0 && e.Lead != nil && *e.Lead < r.Horizon {
 			missed = "short"
 		}
-		t.row(e.Recording, e.Track, e.Zone, secs(e.T), optSecs(e.Lead), optSecs(e.CellLead), missed, mm(e.Depth), optSecs(e.Exit))
+		t.row(e.Recording, e.Track, e.Zone, FormatSecs(e.T), FormatOptSecs(e.Lead), FormatOptSecs(e.CellLead), missed, FormatMM(e.Depth), FormatOptSecs(e.Exit))
 	}
 	t.flush()
 	more(&b, len(r.Entries))
@@ -147,7 +155,7 @@ func (r *Result) WriteText(w io.Writer) error {
 		if lv == "" {
 			lv = "—"
 		}
-		t.row(n.Recording, n.Track, n.Zone, secs(n.T), mm(n.MinSep), lv)
+		t.row(n.Recording, n.Track, n.Zone, FormatSecs(n.T), FormatMM(n.MinSep), lv)
 	}
 	t.flush()
 	more(&b, len(r.NearMisses))
@@ -161,9 +169,9 @@ func (r *Result) WriteText(w io.Writer) error {
 		}
 		closest := "—"
 		if f.MinSep != nil {
-			closest = mm(*f.MinSep)
+			closest = FormatMM(*f.MinSep)
 		}
-		t.row(f.Recording, f.Track, f.Zone, secs(f.Start), secs(f.End), closest)
+		t.row(f.Recording, f.Track, f.Zone, FormatSecs(f.Start), FormatSecs(f.End), closest)
 	}
 	t.flush()
 	more(&b, len(r.FalseAlarms))
@@ -174,7 +182,7 @@ func (r *Result) WriteText(w io.Writer) error {
 		if l.Level == "reduce" {
 			name = "reduce to " + strconv.FormatFloat(l.Scale, 'f', -1, 64)
 		}
-		t.row(name, duration(l.Seconds), pct(l.Share))
+		t.row(name, FormatDuration(l.Seconds), FormatPct(l.Share))
 	}
 	t.flush()
 
@@ -187,7 +195,7 @@ func (r *Result) WriteText(w io.Writer) error {
 		if zone == "" {
 			zone = "— (not near a zone)"
 		}
-		t.row(l.Recording, l.Track, secs(l.LastSeen), secs(l.Declared), optSecs(l.Regained), secs(l.Silence), zone)
+		t.row(l.Recording, l.Track, FormatSecs(l.LastSeen), FormatSecs(l.Declared), FormatOptSecs(l.Regained), FormatSecs(l.Silence), zone)
 	}
 	t.flush()
 	more(&b, len(r.TrackingLosses))
@@ -219,25 +227,25 @@ func (r *Result) WriteText(w io.Writer) error {
 func (r *MarginResult) WriteText(w io.Writer, cfg *zones.Config, rowEvery int) error {
 	var b bytes.Buffer
 	fmt.Fprintf(&b, "forereach margins: cell %s, %d recording(s), %s of samples (%d samples), forecast model %s\n",
-		r.Cell, len(r.Recordings), duration(r.Duration), r.Samples, r.Model)
+		r.Cell, len(r.Recordings), FormatDuration(r.Duration), r.Samples, r.Model)
 	fmt.Fprintf(&b, "Horizon the cell needs: %s = robot stopping time %s + system latency %s. Target detection %s.\n",
-		ms(r.Horizon), ms(r.StoppingTime), ms(r.SystemLatency), pct(r.Target))
+		FormatMS(r.Horizon), FormatMS(r.StoppingTime), FormatMS(r.SystemLatency), FormatPct(r.Target))
 	fmt.Fprintf(&b, "A warning at margin m: the forecast path over the horizon, grown by its uncertainty radius, comes within m of the zone;\n"+
 		"it lasts while warnings follow within the release time (%s s). Detected: an entry warned at least the horizon ahead.\n"+
 		"False alarm: a warning episode with no entry or near miss (closer than %s mm) of the same hand within %s s.\n",
-		strconv.FormatFloat(r.Release, 'f', -1, 64), mm(r.NearMiss), strconv.FormatFloat(r.Window, 'f', -1, 64))
+		strconv.FormatFloat(r.Release, 'f', -1, 64), FormatMM(r.NearMiss), strconv.FormatFloat(r.Window, 'f', -1, 64))
 	if r.BadLines > 0 {
 		fmt.Fprintf(&b, "%d unreadable lines were skipped.\n", r.BadLines)
 	}
 
-	t := newTable(&b, fmt.Sprintf("Forecast error at %s (mm); per zone: forecasts whose true position is within %s mm of the zone", ms(r.Horizon), mm(r.Approach)),
+	t := newTable(&b, fmt.Sprintf("Forecast error at %s (mm); per zone: forecasts whose true position is within %s mm of the zone", FormatMS(r.Horizon), FormatMM(r.Approach)),
 		"zone", "forecasts", "p50", "p90", "p95", "p99", "at target", "max")
 	eq := func(name string, e ErrQuantiles) {
 		if e.Samples == 0 {
 			t.row(name, "0", "—", "—", "—", "—", "—", "—")
 			return
 		}
-		t.row(name, strconv.FormatUint(e.Samples, 10), mm(e.P50), mm(e.P90), mm(e.P95), mm(e.P99), mm(e.AtTarget), mm(e.Max))
+		t.row(name, strconv.FormatUint(e.Samples, 10), FormatMM(e.P50), FormatMM(e.P90), FormatMM(e.P95), FormatMM(e.P99), FormatMM(e.AtTarget), FormatMM(e.Max))
 	}
 	eq("(all)", r.Errors)
 	for _, z := range r.Zones {
@@ -249,16 +257,16 @@ func (r *MarginResult) WriteText(w io.Writer, cfg *zones.Config, rowEvery int) e
 	for _, z := range r.Zones {
 		rec, det, fa := "—", "—", "—"
 		if z.Recommended != nil {
-			rec = mm(*z.Recommended)
+			rec = FormatMM(*z.Recommended)
 		}
 		if z.AtRec != nil {
-			det, fa = pct(z.AtRec.Detection()), perHour(z.AtRec.FalseAlarmsPerHour())
+			det, fa = FormatPct(z.AtRec.Detection()), perHour(z.AtRec.FalseAlarmsPerHour())
 		}
 		cdet, cfa := "—", "—"
 		if z.AtConf != nil {
-			cdet, cfa = pct(z.AtConf.Detection()), perHour(z.AtConf.FalseAlarmsPerHour())
+			cdet, cfa = FormatPct(z.AtConf.Detection()), perHour(z.AtConf.FalseAlarmsPerHour())
 		}
-		t.row(z.Name, mm(z.Configured), strconv.Itoa(z.Entries), strconv.Itoa(z.NearMisses), rec, z.From, det, fa, cdet, cfa)
+		t.row(z.Name, FormatMM(z.Configured), strconv.Itoa(z.Entries), strconv.Itoa(z.NearMisses), rec, z.From, det, fa, cdet, cfa)
 	}
 	t.flush()
 
@@ -281,7 +289,7 @@ func (r *MarginResult) WriteText(w io.Writer, cfg *zones.Config, rowEvery int) e
 			if k%rowEvery != 0 && k != len(z.Sweep)-1 && mark == "" {
 				continue
 			}
-			t.row(mm(sp.Margin), fmt.Sprintf("%d/%d", sp.Detected, sp.Entries), pct(sp.Detection()), strconv.Itoa(sp.Warnings),
+			t.row(FormatMM(sp.Margin), fmt.Sprintf("%d/%d", sp.Detected, sp.Entries), FormatPct(sp.Detection()), strconv.Itoa(sp.Warnings),
 				strconv.Itoa(sp.FalseAlarms), perHour(sp.FalseAlarmsPerHour()), mark)
 		}
 		t.flush()
@@ -334,12 +342,12 @@ func (r *MarginResult) noteFor(zone string) string {
 		switch {
 		case z.Recommended != nil && z.From == "sweep":
 			return fmt.Sprintf("forereach margins: was %s mm; detects %s of %d entries %s ahead, %s false alarms/h",
-				mm(z.Configured), pct(z.AtRec.Detection()), z.Entries, ms(r.Horizon), perHour(z.AtRec.FalseAlarmsPerHour()))
+				FormatMM(z.Configured), FormatPct(z.AtRec.Detection()), z.Entries, FormatMS(r.Horizon), perHour(z.AtRec.FalseAlarmsPerHour()))
 		case z.Recommended != nil:
 			return fmt.Sprintf("forereach margins: was %s mm; no entries recorded: forecast error at %s, quantile %s",
-				mm(z.Configured), ms(r.Horizon), pct(r.Target))
+				FormatMM(z.Configured), FormatMS(r.Horizon), FormatPct(r.Target))
 		case z.From == "target not reached":
-			return fmt.Sprintf("forereach margins: kept; %s detection not reached within the sweep", pct(r.Target))
+			return fmt.Sprintf("forereach margins: kept; %s detection not reached within the sweep", FormatPct(r.Target))
 		default:
 			return "forereach margins: kept; no data for this zone"
 		}
@@ -351,7 +359,7 @@ func (ref *References) writeText(b *bytes.Buffer) {
 	fmt.Fprintf(b, "\nThe standards' distances for the same stopping data (protective separation is the job of certified safety equipment; advisory margins are no substitute):\n")
 	if ref.MinDistance != nil {
 		fmt.Fprintf(b, "  ISO 13855:2010 minimum distance, detection zone orthogonal to the approach: S = K·T + C = %s mm/s × %s s + %s mm = %s mm\n",
-			strconv.FormatFloat(ref.MinDistanceK*1000, 'f', 0, 64), strconv.FormatFloat(ref.T, 'f', 3, 64), mm(ref.MinDistanceC), mm(*ref.MinDistance))
+			strconv.FormatFloat(ref.MinDistanceK*1000, 'f', 0, 64), strconv.FormatFloat(ref.T, 'f', 3, 64), FormatMM(ref.MinDistanceC), FormatMM(*ref.MinDistance))
 		fmt.Fprintf(b, "    (T = stopping time + system latency; K = 2000 mm/s, or 1600 mm/s when that gives more than 500 mm, then not below 500 mm; never below 100 mm)\n")
 	} else {
 		fmt.Fprintf(b, "  ISO 13855:2010 minimum distance: not computed: %s\n", ref.MinDistanceErr)
@@ -359,9 +367,9 @@ func (ref *References) writeText(b *bytes.Buffer) {
 	if s := ref.Separation; s != nil {
 		in := ref.SeparationIn
 		fmt.Fprintf(b, "  ISO/TS 15066 protective separation distance: Sp = Sh + Sr + Ss + C + Zd + Zr = %s + %s + %s + %s + %s + %s = %s mm\n",
-			mm(s.Sh), mm(s.Sr), mm(s.Ss), mm(s.C), mm(s.Zd), mm(s.Zr), mm(s.Sp))
+			FormatMM(s.Sh), FormatMM(s.Sr), FormatMM(s.Ss), FormatMM(s.C), FormatMM(s.Zd), FormatMM(s.Zr), FormatMM(s.Sp))
 		fmt.Fprintf(b, "    (v_h = %s mm/s, v_r = %s mm/s, Tr = reaction time + system latency = %s, Ts = %s)\n",
-			strconv.FormatFloat(in.HumanSpeed*1000, 'f', 0, 64), strconv.FormatFloat(in.RobotSpeed*1000, 'f', 0, 64), ms(in.ReactionTime), ms(in.StoppingTime))
+			strconv.FormatFloat(in.HumanSpeed*1000, 'f', 0, 64), strconv.FormatFloat(in.RobotSpeed*1000, 'f', 0, 64), FormatMS(in.ReactionTime), FormatMS(in.StoppingTime))
 	} else {
 		fmt.Fprintf(b, "  ISO/TS 15066 protective separation distance: not computed: %s\n", ref.SeparationErr)
 	}
