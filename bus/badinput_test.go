@@ -1,8 +1,6 @@
 package bus
 
 import (
-	"io"
-	"os"
 	"runtime"
 	"strings"
 	"testing"
@@ -112,29 +110,14 @@ func TestServiceBadInput(t *testing.T) {
 	rec.Close()
 	kinds := map[Kind]int{}
 	recReasons := map[string]uint64{}
-	for _, name := range rec.Files() {
-		f, err := os.Open(name)
-		if err != nil {
-			t.Fatal(err)
-		}
-		rr := NewRecordReader(f, name)
-		for {
-			r, err := rr.Next()
-			if err == io.EOF {
-				break
-			}
-			if err != nil {
-				t.Fatal(err)
-			}
-			kinds[r.Kind]++
-			if r.Kind == KindReject {
-				recReasons[r.Reject.Reason]++
-				if r.Reject.Topic != "forereach/pl3-palletiser/hands/cam1" || r.Reject.Error == "" || r.Reject.Size == 0 {
-					t.Fatalf("line %d: incomplete rejection %+v", r.Line, r.Reject)
-				}
+	for _, r := range readRecords(t, rec.Files()) {
+		kinds[r.Kind]++
+		if r.Kind == KindReject {
+			recReasons[r.Reject.Reason]++
+			if r.Reject.Topic != "forereach/pl3-palletiser/hands/cam1" || r.Reject.Error == "" || r.Reject.Size == 0 {
+				t.Fatalf("line %d: incomplete rejection %+v", r.Line, r.Reject)
 			}
 		}
-		f.Close()
 	}
 	if kinds[KindSample] != nGood || kinds[KindReject] != nBad {
 		t.Errorf("recording: %d samples and %d rejections, want %d and %d", kinds[KindSample], kinds[KindReject], nGood, nBad)

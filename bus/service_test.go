@@ -167,6 +167,33 @@ func (tc *testClient) publish(t testing.TB, topic string, qos byte, payload []by
 	return tc.c.Publish(topic, qos, false, payload)
 }
 
+// readRecords reads every record of the recording's files, in order; any
+// error other than the end of a file fails the test.
+func readRecords(t testing.TB, files []string) []Record {
+	t.Helper()
+	var out []Record
+	for _, name := range files {
+		f, err := os.Open(name)
+		if err != nil {
+			t.Fatal(err)
+		}
+		rr := NewRecordReader(f, name)
+		for {
+			r, err := rr.Next()
+			if err == io.EOF {
+				break
+			}
+			if err != nil {
+				f.Close()
+				t.Fatal(err)
+			}
+			out = append(out, r)
+		}
+		f.Close()
+	}
+	return out
+}
+
 // approach is a hand of operator 1 that stands in the walkway, walks east
 // into the robot envelope of pl3-palletiser at 1 m/s, stays inside, walks
 // back and stays out until the advisory has been released: samples at
@@ -363,30 +390,15 @@ func TestServiceEndToEnd(t *testing.T) {
 	// The recording holds every sample and every advisory, in order.
 	var recSamples []SampleRecord
 	var recAdv []Advisory
-	for _, name := range rec.Files() {
-		f, err := os.Open(name)
-		if err != nil {
-			t.Fatal(err)
+	for _, r := range readRecords(t, rec.Files()) {
+		switch r.Kind {
+		case KindSample:
+			recSamples = append(recSamples, *r.Sample)
+		case KindAdvisory:
+			a := *r.Advisory
+			a.Issued = 0
+			recAdv = append(recAdv, a)
 		}
-		rr := NewRecordReader(f, name)
-		for {
-			r, err := rr.Next()
-			if err == io.EOF {
-				break
-			}
-			if err != nil {
-				t.Fatal(err)
-			}
-			switch r.Kind {
-			case KindSample:
-				recSamples = append(recSamples, *r.Sample)
-			case KindAdvisory:
-				a := *r.Advisory
-				a.Issued = 0
-				recAdv = append(recAdv, a)
-			}
-		}
-		f.Close()
 	}
 	if len(recSamples) != len(samples) {
 		t.Fatalf("recording has %d samples, want %d", len(recSamples), len(samples))
